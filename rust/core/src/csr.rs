@@ -1,0 +1,156 @@
+//! A borrowed CSR graph and its validation.
+
+use crate::{Error, Idx};
+
+/// A directed graph in compressed sparse row form, borrowed from the caller.
+///
+/// Row `u` is `indices[indptr[u]..indptr[u + 1]]`: the successors of `u`, in
+/// stored order (duplicates and self-loops allowed). Construction checks
+/// `indptr` (O(V)); the endpoints in `indices` are checked by
+/// [`Csr::in_degrees`] or [`Csr::check_indices`] (O(E)) before any algorithm
+/// uses them as positions.
+#[derive(Debug, Clone, Copy)]
+pub struct Csr<'a, I: Idx> {
+    indptr: &'a [I],
+    indices: &'a [I],
+}
+
+impl<'a, I: Idx> Csr<'a, I> {
+    /// Wrap `indptr`/`indices`, checking that `indptr` starts at 0, never
+    /// decreases and ends at `indices.len()`.
+    pub fn new(indptr: &'a [I], indices: &'a [I]) -> Result<Self, Error> {
+        let first = *indptr.first().ok_or(Error::EmptyIndptr)?;
+        if first.to_i128() != 0 {
+            return Err(Error::IndptrStart {
+                value: first.to_i128(),
+            });
+        }
+        for (row, pair) in indptr.windows(2).enumerate() {
+            if pair[1] < pair[0] {
+                return Err(Error::IndptrDecreasing {
+                    row,
+                    start: pair[0].to_i128(),
+                    end: pair[1].to_i128(),
+                });
+            }
+        }
+        let last = indptr[indptr.len() - 1];
+        if last.to_i128() != indices.len() as i128 {
+            return Err(Error::IndptrEnd {
+                value: last.to_i128(),
+                len: indices.len(),
+            });
+        }
+        Ok(Csr { indptr, indices })
+    }
+
+    /// Number of nodes.
+    #[inline]
+    pub fn n(&self) -> usize {
+        self.indptr.len() - 1
+    }
+
+    /// Number of stored edges.
+    #[inline]
+    pub fn m(&self) -> usize {
+        self.indices.len()
+    }
+
+    #[inline]
+    pub fn indptr(&self) -> &'a [I] {
+        self.indptr
+    }
+
+    #[inline]
+    pub fn indices(&self) -> &'a [I] {
+        self.indices
+    }
+
+    /// The range of edge positions of row `u`.
+    #[inline(always)]
+    pub fn row_range(&self, u: usize) -> std::ops::Range<usize> {
+        self.indptr[u].to_usize()..self.indptr[u + 1].to_usize()
+    }
+
+    /// The successors of `u`, in stored order.
+    #[inline(always)]
+    pub fn row(&self, u: usize) -> &'a [I] {
+        &self.indices[self.row_range(u)]
+    }
+
+    fn out_of_range(&self, position: usize) -> Error {
+        Error::IndexOutOfRange {
+            what: "indices",
+            position,
+            value: self.indices[position].to_i128(),
+            n: self.n(),
+        }
+    }
+
+    /// Check that every endpoint lies in `0..n`.
+    pub fn check_indices(&self) -> Result<(), Error> {
+        let n = self.n();
+        match self.indices.iter().position(|v| v.to_usize() >= n) {
+            Some(position) => Err(self.out_of_range(position)),
+            None => Ok(()),
+        }
+    }
+
+    /// In-degree of every node, counting duplicates and self-loops; checks
+    /// every endpoint on the way.
+    pub fn in_degrees(&self) -> Result<Vec<I>, Error> {
+        // Counts fit I: each is at most m, and m fits I because indptr does.
+        let mut indegree = vec![I::default(); self.n()];
+        for (position, v) in self.indices.iter().enumerate() {
+            match indegree.get_mut(v.to_usize()) {
+                Some(slot) => *slot = I::from_usize(slot.to_usize() + 1),
+                None => return Err(self.out_of_range(position)),
+            }
+        }
+        Ok(indegree)
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn rejects_bad_indptr() {
+        let idx: [i32; 2] = [1, 0];
+        assert_eq!(Csr::<i32>::new(&[], &idx).unwrap_err(), Error::EmptyIndptr);
+        assert!(matches!(
+            Csr::new(&[1, 2], &idx),
+            Err(Error::IndptrStart { value: 1 })
+        ));
+        assert!(matches!(
+            Csr::new(&[0, 2, 1], &idx),
+            Err(Error::IndptrDecreasing { row: 1, .. })
+        ));
+        assert!(matches!(
+            Csr::new(&[0, 1], &idx),
+            Err(Error::IndptrEnd { value: 1, len: 2 })
+        ));
+    }
+
+    #[test]
+    fn in_degrees_count_duplicates_and_reject_bad_ids() {
+        let g = Csr::new(&[0i64, 3, 3], &[1, 1, 0]).unwrap();
+        assert_eq!(g.in_degrees().unwrap(), vec![1, 2]);
+        let bad = Csr::new(&[0i64, 2, 2], &[1, -1]).unwrap();
+        assert!(matches!(
+            bad.in_degrees(),
+            Err(Error::IndexOutOfRange {
+                position: 1,
+                value: -1,
+                ..
+            })
+        ));
+        assert!(bad.check_indices().is_err());
+        let bad = Csr::new(&[0i32, 1, 1], &[2]).unwrap();
+        assert!(matches!(
+            bad.check_indices(),
+            Err(Error::IndexOutOfRange { value: 2, .. })
+        ));
+    }
+}

@@ -1,0 +1,134 @@
+//! Edge lists to CSR.
+
+use crate::{Error, Idx};
+
+/// A CSR graph built from an edge list, owning its arrays.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub struct OwnedCsr<I> {
+    pub indptr: Vec<I>,
+    pub indices: Vec<I>,
+    /// `edge_ids[k]` is the input position of the k-th stored edge, when asked for.
+    pub edge_ids: Option<Vec<I>>,
+}
+
+/// Group the edges `src[k] -> dst[k]` by source with a stable counting sort
+/// (O(n + m)), so each row keeps the input order of its edges.
+pub fn edges_to_csr<I: Idx>(
+    src: &[I],
+    dst: &[I],
+    n: usize,
+    with_edge_ids: bool,
+) -> Result<OwnedCsr<I>, Error> {
+    let m = src.len();
+    if dst.len() != m {
+        return Err(Error::LengthMismatch {
+            what: "dst",
+            expected: m,
+            got: dst.len(),
+        });
+    }
+    if n > I::MAX_USIZE {
+        return Err(Error::TooLarge {
+            what: "node count",
+            count: n,
+            max: I::MAX_USIZE,
+        });
+    }
+    if m > I::MAX_USIZE {
+        return Err(Error::TooLarge {
+            what: "edge count",
+            count: m,
+            max: I::MAX_USIZE,
+        });
+    }
+    let out_of_range = |what, position: usize, value: I| Error::IndexOutOfRange {
+        what,
+        position,
+        value: value.to_i128(),
+        n,
+    };
+    if let Some(position) = dst.iter().position(|v| v.to_usize() >= n) {
+        return Err(out_of_range("dst", position, dst[position]));
+    }
+    // cursor[u + 1] counts row u, then becomes the next write slot of row u.
+    let mut cursor = vec![0usize; n + 1];
+    for (position, u) in src.iter().enumerate() {
+        match cursor.get_mut(u.to_usize().wrapping_add(1)) {
+            Some(count) if u.to_usize() < n => *count += 1,
+            _ => return Err(out_of_range("src", position, *u)),
+        }
+    }
+    for u in 0..n {
+        cursor[u + 1] += cursor[u];
+    }
+    let indptr: Vec<I> = cursor.iter().map(|&c| I::from_usize(c)).collect();
+    let mut indices = vec![I::default(); m];
+    let mut edge_ids = if with_edge_ids {
+        vec![I::default(); m]
+    } else {
+        Vec::new()
+    };
+    for (k, (u, v)) in src.iter().zip(dst).enumerate() {
+        let slot = &mut cursor[u.to_usize()];
+        indices[*slot] = *v;
+        if with_edge_ids {
+            edge_ids[*slot] = I::from_usize(k);
+        }
+        *slot += 1;
+    }
+    Ok(OwnedCsr {
+        indptr,
+        indices,
+        edge_ids: with_edge_ids.then_some(edge_ids),
+    })
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn rows_keep_input_order() {
+        let g = edges_to_csr(&[2i64, 0, 2, 0], &[1, 2, 0, 1], 3, true).unwrap();
+        assert_eq!(g.indptr, vec![0, 2, 2, 4]);
+        assert_eq!(g.indices, vec![2, 1, 1, 0]);
+        assert_eq!(g.edge_ids, Some(vec![1, 3, 0, 2]));
+    }
+
+    #[test]
+    fn isolated_nodes_and_empty_graphs() {
+        let g = edges_to_csr::<i32>(&[], &[], 3, false).unwrap();
+        assert_eq!(g.indptr, vec![0, 0, 0, 0]);
+        assert!(g.indices.is_empty() && g.edge_ids.is_none());
+        let g = edges_to_csr::<i32>(&[], &[], 0, false).unwrap();
+        assert_eq!(g.indptr, vec![0]);
+    }
+
+    #[test]
+    fn bad_endpoints_are_named() {
+        let e = edges_to_csr(&[0i64, -3], &[1, 1], 2, false).unwrap_err();
+        assert_eq!(
+            e,
+            Error::IndexOutOfRange {
+                what: "src",
+                position: 1,
+                value: -3,
+                n: 2
+            }
+        );
+        let e = edges_to_csr(&[0i32], &[5], 2, false).unwrap_err();
+        assert_eq!(
+            e,
+            Error::IndexOutOfRange {
+                what: "dst",
+                position: 0,
+                value: 5,
+                n: 2
+            }
+        );
+        let e = edges_to_csr(&[0i32], &[], 2, false).unwrap_err();
+        assert!(matches!(e, Error::LengthMismatch { what: "dst", .. }));
+        let e = edges_to_csr::<i32>(&[], &[], 1 << 40, false).unwrap_err();
+        assert!(matches!(e, Error::TooLarge { .. }));
+    }
+}

@@ -1,0 +1,99 @@
+//! The one error type of the core.
+
+use std::fmt;
+
+/// Everything that can go wrong on user input. Each variant carries the
+/// offending value so the message can name it.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub enum Error {
+    /// `indptr` must have at least one entry (`n + 1` for `n` nodes).
+    EmptyIndptr,
+    /// `indptr[0]` must be zero.
+    IndptrStart { value: i128 },
+    /// `indptr` must never decrease.
+    IndptrDecreasing { row: usize, start: i128, end: i128 },
+    /// `indptr[n]` must equal the number of stored indices.
+    IndptrEnd { value: i128, len: usize },
+    /// An edge endpoint lies outside `0..n`.
+    IndexOutOfRange {
+        what: &'static str,
+        position: usize,
+        value: i128,
+        n: usize,
+    },
+    /// A per-node or per-edge array has the wrong length.
+    LengthMismatch {
+        what: &'static str,
+        expected: usize,
+        got: usize,
+    },
+    /// The node or edge count does not fit the index width.
+    TooLarge {
+        what: &'static str,
+        count: usize,
+        max: usize,
+    },
+    /// A float key is NaN.
+    NanKey { node: usize },
+}
+
+impl fmt::Display for Error {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        match self {
+            Error::EmptyIndptr => write!(f, "indptr is empty; it needs n + 1 entries for n nodes"),
+            Error::IndptrStart { value } => write!(f, "indptr[0] is {value}, expected 0"),
+            Error::IndptrDecreasing { row, start, end } => write!(
+                f,
+                "indptr decreases at row {row}: indptr[{row}] = {start} > indptr[{}] = {end}",
+                row + 1
+            ),
+            Error::IndptrEnd { value, len } => write!(
+                f,
+                "indptr[-1] is {value} but there are {len} stored indices; they must be equal"
+            ),
+            Error::IndexOutOfRange {
+                what,
+                position,
+                value,
+                n,
+            } => write!(
+                f,
+                "{what}[{position}] = {value} is not a node id; ids must lie in 0..{n} (n = {n})"
+            ),
+            Error::LengthMismatch {
+                what,
+                expected,
+                got,
+            } => {
+                write!(f, "{what} has length {got}, expected {expected}")
+            }
+            Error::TooLarge { what, count, max } => {
+                write!(
+                    f,
+                    "{what} = {count} exceeds {max}, the largest this index width can hold"
+                )
+            }
+            Error::NanKey { node } => write!(f, "key[{node}] is NaN; keys must be comparable"),
+        }
+    }
+}
+
+impl std::error::Error for Error {}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn messages_name_the_value() {
+        let e = Error::IndexOutOfRange {
+            what: "indices",
+            position: 3,
+            value: -2,
+            n: 5,
+        };
+        let text = e.to_string();
+        assert!(text.contains("indices[3] = -2"), "{text}");
+        assert!(Error::NanKey { node: 9 }.to_string().contains("key[9]"));
+    }
+}

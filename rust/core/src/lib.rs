@@ -1,0 +1,22 @@
+//! Topological ordering kernels over CSR graphs.
+//!
+//! This crate holds the algorithms only: plain slices in, plain vectors out,
+//! no Python types. A graph is a [`Csr`] view over `indptr`/`indices` slices
+//! of one integer width (see [`Idx`]); the row of node `u` lists its
+//! successors, so a stored entry `(u, v)` means "u comes before v".
+//!
+//! Every failure that input can cause is reported as an [`Error`]; no
+//! function here panics on user data.
+
+pub mod csr;
+pub mod edges;
+pub mod error;
+pub mod index;
+pub mod kahn;
+pub mod rng;
+pub mod verify;
+
+pub use csr::Csr;
+pub use error::Error;
+pub use index::Idx;
+pub use kahn::{kahn, Key, KeyValues, Outcome, Tie};
