@@ -1,0 +1,19 @@
+"""Type stubs of the compiled core. Private: call the functions of ``toporank``."""
+
+import numpy as np
+
+def kahn_order(
+    indptr: np.ndarray,
+    indices: np.ndarray,
+    tie: str,
+    key: np.ndarray | None = None,
+    descending: bool = False,
+    seed: int = 0,
+) -> tuple[np.ndarray, np.ndarray, np.ndarray]: ...
+def edges_to_csr(
+    src: np.ndarray, dst: np.ndarray, n: int, with_edge_ids: bool = False
+) -> tuple[np.ndarray, np.ndarray, np.ndarray | None]: ...
+def verify_order(
+    indptr: np.ndarray, indices: np.ndarray, order: np.ndarray
+) -> tuple[object, ...] | None: ...
+def positions(order: np.ndarray, n: int) -> np.ndarray | tuple[object, ...]: ...

@@ -1,0 +1,317 @@
+"""Input normalisation: every accepted graph form becomes one :class:`Graph`.
+
+This is the only module that inspects user input; the compiled core then
+trusts dtypes and shapes (it still checks every node id, cheaply, while it
+works). int32 and int64 index arrays are used without copying.
+"""
+
+from __future__ import annotations
+
+from collections.abc import Hashable, Iterable, Mapping
+from dataclasses import dataclass, field
+from typing import Any
+
+import numpy as np
+
+from . import _core
+from ._errors import GraphInputError
+
+__all__ = ["Graph", "as_graph"]
+
+_INT32_LIMIT = 2**31 - 1
+
+
+@dataclass(frozen=True, eq=False)
+class Graph:
+    """A directed graph in CSR form, as every toporank function sees it.
+
+    Row ``u`` of the CSR arrays lists the successors of ``u``: the edge
+    ``u -> v`` means ``u`` comes before ``v``. Any function of the package
+    accepts a ``Graph`` directly, skipping normalisation, so build one when
+    several calls share a graph.
+
+    Attributes
+    ----------
+    indptr, indices : numpy.ndarray
+        CSR arrays of one dtype, int32 or int64. Not copied from the input
+        when it already had that form; do not mutate them during a call.
+    labels : numpy.ndarray or None
+        For graphs built from labelled pairs: ``labels[i]`` is node ``i``'s
+        label (numbered in first-seen order); ``None`` for integer graphs.
+
+    Examples
+    --------
+    >>> import numpy as np, toporank
+    >>> g = toporank.Graph.from_edges(np.array([0, 0, 2]), np.array([1, 2, 1]), n=4)
+    >>> g.n, g.m
+    (4, 3)
+    >>> g.indptr
+    array([0, 2, 2, 3, 3])
+    """
+
+    indptr: np.ndarray
+    indices: np.ndarray
+    labels: np.ndarray | None = None
+    _label_index: dict[Any, int] | None = field(default=None, repr=False)
+    # The edge list the graph was grouped from, kept (not copied) so per-edge
+    # input positions can be recomputed on demand.
+    _edges: tuple[np.ndarray, np.ndarray] | None = field(default=None, repr=False)
+
+    @property
+    def n(self) -> int:
+        """Number of nodes."""
+        return len(self.indptr) - 1
+
+    @property
+    def m(self) -> int:
+        """Number of stored edges (duplicates and self-loops included)."""
+        return len(self.indices)
+
+    @property
+    def label_index(self) -> dict[Any, int]:
+        """Map from label to node id (labelled graphs only)."""
+        if self._label_index is None:
+            raise GraphInputError("this graph has integer node ids, not labels")
+        return self._label_index
+
+    def edge_input_positions(self) -> np.ndarray | None:
+        """Input position of each stored edge, or ``None`` when stored order is input order.
+
+        Edge-list input is grouped by source with a stable sort, so the
+        ``k``-th stored edge was edge ``edge_input_positions()[k]`` of the input.
+        """
+        if self._edges is None:
+            return None
+        src, dst = self._edges
+        _, _, edge_ids = _core.edges_to_csr(src, dst, self.n, True)
+        return edge_ids
+
+    @classmethod
+    def from_csr(cls, indptr: Any, indices: Any) -> Graph:
+        """A graph from CSR arrays (``indptr`` of length ``n + 1``)."""
+        indptr = _index_array(indptr, "indptr")
+        indices = _index_array(indices, "indices")
+        if indptr.ndim != 1 or indices.ndim != 1:
+            raise GraphInputError(
+                f"indptr and indices must be 1-D, got shapes {indptr.shape} and {indices.shape}"
+            )
+        if len(indptr) == 0:
+            raise GraphInputError("indptr is empty; it needs n + 1 entries for n nodes")
+        indptr, indices = _same_width(indptr, indices, max(len(indptr), len(indices)))
+        return cls(indptr, indices)
+
+    @classmethod
+    def from_edges(cls, src: Any, dst: Any, n: int | None = None) -> Graph:
+        """A graph from parallel arrays of edge sources and targets.
+
+        Each row keeps the input order of its edges. ``n`` defaults to
+        ``max id + 1``; give it to include isolated nodes with larger ids.
+        """
+        src = _index_array(src, "src")
+        dst = _index_array(dst, "dst")
+        if src.ndim != 1 or dst.ndim != 1:
+            raise GraphInputError(f"src and dst must be 1-D, got shapes {src.shape} and {dst.shape}")
+        if len(src) != len(dst):
+            raise GraphInputError(f"src has {len(src)} entries but dst has {len(dst)}")
+        n = _node_count(src, dst, n)
+        src, dst = _same_width(src, dst, max(n, len(src)))
+        indptr, indices, _ = _core.edges_to_csr(src, dst, n, False)
+        return cls(indptr, indices, _edges=(src, dst))
+
+    @classmethod
+    def from_pairs(cls, pairs: Iterable[tuple[Hashable, Hashable]]) -> Graph:
+        """A graph from ``(u, v)`` pairs of hashable labels, numbered in first-seen order."""
+        index: dict[Any, int] = {}
+        src_ids: list[int] = []
+        dst_ids: list[int] = []
+        for position, pair in enumerate(pairs):
+            try:
+                u, v = pair
+                src_ids.append(index.setdefault(u, len(index)))
+                dst_ids.append(index.setdefault(v, len(index)))
+            except (TypeError, ValueError) as exc:
+                raise GraphInputError(
+                    f"pair {position} is {pair!r}; each edge must be a (u, v) pair "
+                    f"of hashable labels"
+                ) from exc
+        labels = np.empty(len(index), dtype=object)
+        for label, node in index.items():
+            labels[node] = label
+        src = np.asarray(src_ids, dtype=np.int64)
+        dst = np.asarray(dst_ids, dtype=np.int64)
+        indptr, indices, _ = _core.edges_to_csr(src, dst, len(index), False)
+        return cls(indptr, indices, labels, index, (src, dst))
+
+    @classmethod
+    def from_sparse(cls, matrix: Any) -> Graph:
+        """A graph from a square scipy sparse matrix or array: stored entry ``(i, j)`` is ``i -> j``.
+
+        Stored entries count as edges whatever their value (explicit zeros
+        included). CSR input is used as is (its stored order is the edge
+        order); other formats go through COO coordinates in their stored order.
+        """
+        shape = matrix.shape
+        if len(shape) != 2 or shape[0] != shape[1]:
+            raise GraphInputError(f"an adjacency matrix must be square, got shape {shape}")
+        n = int(shape[0])
+        if matrix.format == "csr":
+            indptr = _index_array(matrix.indptr, "indptr")
+            indices = _index_array(matrix.indices, "indices")
+            indptr, indices = _same_width(indptr, indices, max(n + 1, len(indices)))
+            return cls(indptr, indices)
+        coo = matrix.tocoo()
+        return cls.from_edges(coo.row, coo.col, n)
+
+
+def as_graph(graph: Any, n: int | None = None) -> Graph:
+    """Normalise any accepted graph form to a :class:`Graph`.
+
+    Accepted: a ``Graph``; a scipy sparse matrix or array; a tuple
+    ``(src, dst)`` of two 1-D numpy integer arrays; an ``(m, 2)`` numpy
+    integer array; any other iterable of ``(u, v)`` pairs of hashable labels.
+    ``n`` (node count) applies to the two edge-array forms.
+    """
+    if isinstance(graph, Graph):
+        _check_n(n, graph.n, "a Graph")
+        return graph
+    if _is_sparse(graph):
+        built = Graph.from_sparse(graph)
+        _check_n(n, built.n, "a sparse matrix")
+        return built
+    if isinstance(graph, np.ndarray):
+        if graph.ndim != 2 or graph.shape[1] != 2:
+            raise GraphInputError(
+                f"a numpy edge array must have shape (m, 2), got {graph.shape}; for a dense "
+                "adjacency matrix pass scipy.sparse.csr_array(matrix)"
+            )
+        return Graph.from_edges(graph[:, 0], graph[:, 1], n)
+    if (
+        isinstance(graph, tuple)
+        and len(graph) == 2
+        and isinstance(graph[0], np.ndarray)
+        and isinstance(graph[1], np.ndarray)
+        and graph[0].ndim == 1
+    ):
+        return Graph.from_edges(graph[0], graph[1], n)
+    if isinstance(graph, (str, bytes, Mapping)) or not isinstance(graph, Iterable):
+        raise GraphInputError(
+            f"cannot read a graph from {type(graph).__name__}: pass a scipy sparse matrix, "
+            "a (src, dst) tuple of numpy arrays, an (m, 2) numpy array, a sequence of "
+            "(u, v) label pairs, or a toporank.Graph"
+        )
+    if n is not None:
+        raise GraphInputError("n applies to integer edge arrays, not to labelled pairs")
+    return Graph.from_pairs(graph)
+
+
+def _is_sparse(obj: Any) -> bool:
+    if not hasattr(obj, "tocoo") or not hasattr(obj, "format"):
+        return False
+    import scipy.sparse
+
+    return bool(scipy.sparse.issparse(obj))
+
+
+def _check_n(n: int | None, actual: int, what: str) -> None:
+    if n is not None and n != actual:
+        raise GraphInputError(f"n = {n} disagrees with {what} of {actual} nodes")
+
+
+def _index_array(values: Any, name: str) -> np.ndarray:
+    """``values`` as an int32 or int64 array, without a copy when it already is one."""
+    array = values if isinstance(values, np.ndarray) else np.asarray(values)
+    kind = array.dtype.kind
+    if kind == "b" or kind not in "iu":
+        hint = "" if kind != "f" else "; node ids must be integers (cast with .astype(np.int64))"
+        raise GraphInputError(f"{name} has dtype {array.dtype}, expected integers{hint}")
+    if array.dtype in (np.int32, np.int64):
+        return np.ascontiguousarray(array)
+    if array.dtype == np.uint64 and array.size and int(array.max()) > np.iinfo(np.int64).max:
+        position = int(array.argmax())
+        raise GraphInputError(f"{name}[{position}] = {int(array[position])} is too large a node id")
+    return np.ascontiguousarray(array, dtype=np.int64)
+
+
+def _same_width(a: np.ndarray, b: np.ndarray, largest: int) -> tuple[np.ndarray, np.ndarray]:
+    """Both arrays in one dtype, widening to int64 when needed or when they differ."""
+    if a.dtype == b.dtype and (a.dtype == np.int64 or largest <= _INT32_LIMIT):
+        return a, b
+    return a.astype(np.int64, copy=False), b.astype(np.int64, copy=False)
+
+
+def _node_count(src: np.ndarray, dst: np.ndarray, n: int | None) -> int:
+    if n is not None:
+        if isinstance(n, bool) or not isinstance(n, (int, np.integer)) or n < 0:
+            raise GraphInputError(f"n must be a non-negative integer, got {n!r}")
+        return int(n)
+    if len(src) == 0:
+        return 0
+    low = min(int(src.min()), int(dst.min()))
+    if low < 0:
+        name, array = ("src", src) if int(src.min()) == low else ("dst", dst)
+        position = int(np.argmin(array))
+        raise GraphInputError(f"{name}[{position}] = {low} is not a node id; ids must be >= 0")
+    return max(int(src.max()), int(dst.max())) + 1
+
+
+def node_key(graph: Graph, key: Any, name: str = "key") -> np.ndarray:
+    """A per-node key as an int64, uint64 or float64 array of length ``n``.
+
+    For a labelled graph ``key`` may also be a mapping from label to value.
+    Booleans, non-numeric values, NaN and a wrong length are refused.
+    """
+    if isinstance(key, Mapping):
+        if graph.labels is None:
+            raise GraphInputError(f"{name} is a mapping, but the graph has integer ids; pass an array")
+        missing = [label for label in graph.labels if label not in key]
+        if missing:
+            raise GraphInputError(f"{name} has no value for node {missing[0]!r}")
+        key = [key[label] for label in graph.labels]
+    array = np.asarray(key)
+    if array.ndim != 1 or len(array) != graph.n:
+        raise GraphInputError(
+            f"{name} must be 1-D with one value per node ({graph.n}), got shape {array.shape}"
+        )
+    kind = array.dtype.kind
+    if kind == "f":
+        array = np.ascontiguousarray(array, dtype=np.float64)
+        nan = np.flatnonzero(np.isnan(array))
+        if len(nan):
+            raise GraphInputError(f"{name}[{nan[0]}] is NaN{_label_note(graph, int(nan[0]))}")
+        return array
+    if kind == "i":
+        return np.ascontiguousarray(array, dtype=np.int64)
+    if kind == "u":
+        return np.ascontiguousarray(array, dtype=np.uint64)
+    raise GraphInputError(f"{name} has dtype {array.dtype}, expected integers or floats")
+
+
+def _label_note(graph: Graph, node: int) -> str:
+    return "" if graph.labels is None else f" (node {graph.labels[node]!r})"
+
+
+def node_ids(graph: Graph, nodes: Any, name: str) -> np.ndarray:
+    """``nodes`` (ids, or labels for a labelled graph) as an int64 id array.
+
+    Unknown labels map to -1; callers report them.
+    """
+    if graph.labels is not None:
+        index = graph.label_index
+        return np.fromiter((index.get(x, -1) for x in nodes), dtype=np.int64, count=len(nodes))
+    array = np.asarray(nodes)
+    if array.ndim != 1:
+        raise GraphInputError(f"{name} must be 1-D, got shape {array.shape}")
+    if len(array) == 0:
+        return np.zeros(0, dtype=np.int64)
+    if array.dtype.kind not in "iu":
+        raise GraphInputError(f"{name} has dtype {array.dtype}, expected integer node ids")
+    if array.dtype == np.uint64 and int(array.max()) > np.iinfo(np.int64).max:
+        return np.full(len(array), -1, dtype=np.int64)
+    return np.ascontiguousarray(array, dtype=np.int64)
+
+
+def as_nodes(graph: Graph, ids: np.ndarray) -> np.ndarray:
+    """Node ids as the caller knows them: labels for a labelled graph, ids otherwise."""
+    if graph.labels is None:
+        return ids
+    return graph.labels[ids]

@@ -1,0 +1,68 @@
+"""Every public function runs on int32 and int64 index arrays alike.
+
+Modelled on the guard idea in scipy.sparse.csgraph's test-suite (common
+practice there): this test fails when a public function is added to
+``toporank.__all__`` without being listed in ``CALLS``.
+"""
+
+from __future__ import annotations
+
+import inspect
+
+import numpy as np
+import pytest
+import scipy.sparse as sp
+
+import toporank
+
+# A small DAG: 0 -> 1 -> 3, 0 -> 2 -> 3, 4 isolated, plus 2 -> 1.
+SRC = np.array([0, 0, 1, 2, 2])
+DST = np.array([1, 2, 3, 3, 1])
+N = 5
+
+
+def _dag(dtype):
+    matrix = sp.csr_array((np.ones(len(SRC)), (SRC, DST)), shape=(N, N))
+    matrix.indptr = matrix.indptr.astype(dtype)
+    matrix.indices = matrix.indices.astype(dtype)
+    return matrix
+
+
+# name -> function of a graph returning something comparable across widths.
+CALLS = {
+    "as_graph": lambda g: toporank.as_graph(g).n,
+    "order": lambda g: toporank.order(g, tie="priority").tolist(),
+    "positions": lambda g: toporank.positions(toporank.order(g)).tolist(),
+    "verify_order": lambda g: toporank.verify_order(g, toporank.order(g)),
+}
+# Public callables that take no graph.
+NOT_GRAPH_FUNCTIONS = {"Graph"}
+
+
+def _public_functions():
+    for name in toporank.__all__:
+        obj = getattr(toporank, name)
+        if inspect.isclass(obj) and issubclass(obj, Exception):
+            continue
+        if callable(obj) and name not in NOT_GRAPH_FUNCTIONS:
+            yield name
+
+
+def test_every_public_function_is_listed():
+    missing = sorted(set(_public_functions()) - set(CALLS))
+    assert not missing, f"add these public functions to CALLS: {missing}"
+
+
+@pytest.mark.parametrize("name", sorted(CALLS))
+def test_int32_and_int64_agree(name):
+    narrow, wide = _dag(np.int32), _dag(np.int64)
+    assert toporank.as_graph(narrow).indices.dtype == np.int32
+    assert toporank.as_graph(wide).indices.dtype == np.int64
+    assert CALLS[name](narrow) == CALLS[name](wide)
+
+
+def test_int32_and_int64_arrays_are_not_copied():
+    for dtype in (np.int32, np.int64):
+        matrix = _dag(dtype)
+        g = toporank.as_graph(matrix)
+        assert g.indptr is matrix.indptr and g.indices is matrix.indices
