@@ -96,6 +96,26 @@ impl<'a, I: Idx> Csr<'a, I> {
         }
     }
 
+    /// In-degree of every node as a count of width `C`, counting duplicates
+    /// and self-loops; checks every endpoint on the way. `C` must hold `m`.
+    pub fn in_degree_counts<C: Count>(&self) -> Result<Vec<C>, Error> {
+        if self.m() > C::MAX {
+            return Err(Error::TooLarge {
+                what: "edge count",
+                count: self.m(),
+                max: C::MAX,
+            });
+        }
+        let mut indegree = vec![C::ZERO; self.n()];
+        for (position, v) in self.indices.iter().enumerate() {
+            match indegree.get_mut(v.to_usize()) {
+                Some(slot) => slot.increment(),
+                None => return Err(self.out_of_range(position)),
+            }
+        }
+        Ok(indegree)
+    }
+
     /// In-degree of every node, counting duplicates and self-loops; checks
     /// every endpoint on the way.
     pub fn in_degrees(&self) -> Result<Vec<I>, Error> {
@@ -110,6 +130,41 @@ impl<'a, I: Idx> Csr<'a, I> {
         Ok(indegree)
     }
 }
+
+/// An unsigned counter for remaining in-degrees.
+pub trait Count: Copy + Send + Sync + 'static {
+    const ZERO: Self;
+    const MAX: usize;
+    fn increment(&mut self);
+    /// Subtract one; true when the count reaches zero.
+    fn decrement(&mut self) -> bool;
+    fn is_zero(self) -> bool;
+}
+
+macro_rules! impl_count {
+    ($t:ty) => {
+        impl Count for $t {
+            const ZERO: Self = 0;
+            const MAX: usize = <$t>::MAX as usize;
+            #[inline(always)]
+            fn increment(&mut self) {
+                *self += 1;
+            }
+            #[inline(always)]
+            fn decrement(&mut self) -> bool {
+                *self -= 1;
+                *self == 0
+            }
+            #[inline(always)]
+            fn is_zero(self) -> bool {
+                self == 0
+            }
+        }
+    };
+}
+
+impl_count!(u32);
+impl_count!(u64);
 
 #[cfg(test)]
 mod tests {
