@@ -2,6 +2,8 @@
 
 import numpy as np
 
+__all__ = ["edges_to_csr", "kahn_order", "positions", "verify_order"]
+
 def kahn_order(
     indptr: np.ndarray,
     indices: np.ndarray,

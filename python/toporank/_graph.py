@@ -110,7 +110,9 @@ class Graph:
         src = _index_array(src, "src")
         dst = _index_array(dst, "dst")
         if src.ndim != 1 or dst.ndim != 1:
-            raise GraphInputError(f"src and dst must be 1-D, got shapes {src.shape} and {dst.shape}")
+            raise GraphInputError(
+                f"src and dst must be 1-D, got shapes {src.shape} and {dst.shape}"
+            )
         if len(src) != len(dst):
             raise GraphInputError(f"src has {len(src)} entries but dst has {len(dst)}")
         n = _node_count(src, dst, n)
@@ -144,7 +146,7 @@ class Graph:
 
     @classmethod
     def from_sparse(cls, matrix: Any) -> Graph:
-        """A graph from a square scipy sparse matrix or array: stored entry ``(i, j)`` is ``i -> j``.
+        """A graph from a square scipy sparse matrix or array; entry ``(i, j)`` is ``i -> j``.
 
         Stored entries count as edges whatever their value (explicit zeros
         included). CSR input is used as is (its stored order is the edge
@@ -262,7 +264,9 @@ def node_key(graph: Graph, key: Any, name: str = "key") -> np.ndarray:
     """
     if isinstance(key, Mapping):
         if graph.labels is None:
-            raise GraphInputError(f"{name} is a mapping, but the graph has integer ids; pass an array")
+            raise GraphInputError(
+                f"{name} is a mapping, but the graph has integer ids; pass an array"
+            )
         missing = [label for label in graph.labels if label not in key]
         if missing:
             raise GraphInputError(f"{name} has no value for node {missing[0]!r}")

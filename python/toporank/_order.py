@@ -119,9 +119,7 @@ def _policy_arguments(
     if tie not in TIES:
         raise GraphInputError(f"tie must be one of {TIES}, got {tie!r}")
     if tie != "priority" and (key is not None or descending):
-        raise GraphInputError(
-            f"key and descending apply to tie='priority', not to tie={tie!r}"
-        )
+        raise GraphInputError(f"key and descending apply to tie='priority', not to tie={tie!r}")
     if tie != "random" and seed is not None:
         raise GraphInputError(f"seed applies to tie='random', not to tie={tie!r}")
     key_array = None if key is None else node_key(g, key)
@@ -188,7 +186,7 @@ def verify_order(graph: Any, order: Any, *, n: int | None = None) -> None:
     >>> toporank.verify_order(edges, np.array([1, 0, 2]))
     Traceback (most recent call last):
     ...
-    toporank._errors.InvalidOrderError: edge 0 -> 1 goes backwards: 0 is at position 1, 1 at position 0 (stored edge 0)
+    toporank._errors.InvalidOrderError: edge 0 -> 1 goes backwards: 0 is at position 1, ...
     """
     g = as_graph(graph, n)
     ids = node_ids(g, order, "order")
@@ -197,7 +195,9 @@ def verify_order(graph: Any, order: Any, *, n: int | None = None) -> None:
         raise _order_error(g, found, ids, order)
 
 
-def _order_error(g: Graph | None, found: tuple[Any, ...], ids: np.ndarray, given: Any) -> InvalidOrderError:
+def _order_error(
+    g: Graph | None, found: tuple[Any, ...], ids: np.ndarray, given: Any
+) -> InvalidOrderError:
     def name(node: int) -> Any:
         return node if g is None else as_nodes(g, np.array([node]))[0]
 
@@ -209,22 +209,30 @@ def _order_error(g: Graph | None, found: tuple[Any, ...], ids: np.ndarray, given
         return InvalidOrderError(
             f"edge {u} -> {v} {what}: {u} is at position {pos_u}, {v} at position {pos_v} "
             f"(stored edge {edge})",
-            reason="edge", edge=(u, v), edge_index=edge, positions=(pos_u, pos_v),
+            reason="edge",
+            edge=(u, v),
+            edge_index=edge,
+            positions=(pos_u, pos_v),
         )
     if reason == "duplicate":
         _, node, first, second = found
         node = name(node)
         return InvalidOrderError(
             f"node {node} appears twice, at positions {first} and {second}",
-            reason="duplicate", node=node, positions=(first, second),
+            reason="duplicate",
+            node=node,
+            positions=(first, second),
         )
     if reason == "missing":
         node = name(found[1])
-        return InvalidOrderError(f"node {node} is missing from the order", reason="missing", node=node)
+        return InvalidOrderError(
+            f"node {node} is missing from the order", reason="missing", node=node
+        )
     position = found[1]
     value = given[position] if g is not None and g.labels is not None else found[2]
     total = len(ids) if g is None else g.n
     return InvalidOrderError(
         f"order[{position}] = {value!r} is not a node of the graph (it has {total} nodes)",
-        reason="unknown", node=value,
+        reason="unknown",
+        node=value,
     )

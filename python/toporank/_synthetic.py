@@ -13,7 +13,12 @@ __all__ = ["citation_dag", "with_back_edges"]
 
 
 def citation_dag(
-    n: int, k: int = 10, *, seed: int = 0, bias: float = 2.0, first_year: int = 1950,
+    n: int,
+    k: int = 10,
+    *,
+    seed: int = 0,
+    bias: float = 2.0,
+    first_year: int = 1950,
     years: int = 75,
 ) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     """Return ``(src, dst, year)`` of a growing citation-like DAG.
