@@ -21,9 +21,7 @@ impl<'a, I: Idx> Csr<'a, I> {
     pub fn new(indptr: &'a [I], indices: &'a [I]) -> Result<Self, Error> {
         let first = *indptr.first().ok_or(Error::EmptyIndptr)?;
         if first.to_i128() != 0 {
-            return Err(Error::IndptrStart {
-                value: first.to_i128(),
-            });
+            return Err(Error::IndptrStart { value: first.to_i128() });
         }
         for (row, pair) in indptr.windows(2).enumerate() {
             if pair[1] < pair[0] {
@@ -36,10 +34,7 @@ impl<'a, I: Idx> Csr<'a, I> {
         }
         let last = indptr[indptr.len() - 1];
         if last.to_i128() != indices.len() as i128 {
-            return Err(Error::IndptrEnd {
-                value: last.to_i128(),
-                len: indices.len(),
-            });
+            return Err(Error::IndptrEnd { value: last.to_i128(), len: indices.len() });
         }
         Ok(Csr { indptr, indices })
     }
@@ -100,11 +95,7 @@ impl<'a, I: Idx> Csr<'a, I> {
     /// and self-loops; checks every endpoint on the way. `C` must hold `m`.
     pub fn in_degree_counts<C: Count>(&self) -> Result<Vec<C>, Error> {
         if self.m() > C::MAX {
-            return Err(Error::TooLarge {
-                what: "edge count",
-                count: self.m(),
-                max: C::MAX,
-            });
+            return Err(Error::TooLarge { what: "edge count", count: self.m(), max: C::MAX });
         }
         let mut indegree = vec![C::ZERO; self.n()];
         for (position, v) in self.indices.iter().enumerate() {
@@ -174,18 +165,9 @@ mod tests {
     fn rejects_bad_indptr() {
         let idx: [i32; 2] = [1, 0];
         assert_eq!(Csr::<i32>::new(&[], &idx).unwrap_err(), Error::EmptyIndptr);
-        assert!(matches!(
-            Csr::new(&[1, 2], &idx),
-            Err(Error::IndptrStart { value: 1 })
-        ));
-        assert!(matches!(
-            Csr::new(&[0, 2, 1], &idx),
-            Err(Error::IndptrDecreasing { row: 1, .. })
-        ));
-        assert!(matches!(
-            Csr::new(&[0, 1], &idx),
-            Err(Error::IndptrEnd { value: 1, len: 2 })
-        ));
+        assert!(matches!(Csr::new(&[1, 2], &idx), Err(Error::IndptrStart { value: 1 })));
+        assert!(matches!(Csr::new(&[0, 2, 1], &idx), Err(Error::IndptrDecreasing { row: 1, .. })));
+        assert!(matches!(Csr::new(&[0, 1], &idx), Err(Error::IndptrEnd { value: 1, len: 2 })));
     }
 
     #[test]
@@ -195,17 +177,10 @@ mod tests {
         let bad = Csr::new(&[0i64, 2, 2], &[1, -1]).unwrap();
         assert!(matches!(
             bad.in_degrees(),
-            Err(Error::IndexOutOfRange {
-                position: 1,
-                value: -1,
-                ..
-            })
+            Err(Error::IndexOutOfRange { position: 1, value: -1, .. })
         ));
         assert!(bad.check_indices().is_err());
         let bad = Csr::new(&[0i32, 1, 1], &[2]).unwrap();
-        assert!(matches!(
-            bad.check_indices(),
-            Err(Error::IndexOutOfRange { value: 2, .. })
-        ));
+        assert!(matches!(bad.check_indices(), Err(Error::IndexOutOfRange { value: 2, .. })));
     }
 }

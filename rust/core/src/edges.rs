@@ -21,25 +21,13 @@ pub fn edges_to_csr<I: Idx>(
 ) -> Result<OwnedCsr<I>, Error> {
     let m = src.len();
     if dst.len() != m {
-        return Err(Error::LengthMismatch {
-            what: "dst",
-            expected: m,
-            got: dst.len(),
-        });
+        return Err(Error::LengthMismatch { what: "dst", expected: m, got: dst.len() });
     }
     if n > I::MAX_USIZE {
-        return Err(Error::TooLarge {
-            what: "node count",
-            count: n,
-            max: I::MAX_USIZE,
-        });
+        return Err(Error::TooLarge { what: "node count", count: n, max: I::MAX_USIZE });
     }
     if m > I::MAX_USIZE {
-        return Err(Error::TooLarge {
-            what: "edge count",
-            count: m,
-            max: I::MAX_USIZE,
-        });
+        return Err(Error::TooLarge { what: "edge count", count: m, max: I::MAX_USIZE });
     }
     let out_of_range = |what, position: usize, value: I| Error::IndexOutOfRange {
         what,
@@ -63,11 +51,7 @@ pub fn edges_to_csr<I: Idx>(
     }
     let indptr: Vec<I> = cursor.iter().map(|&c| I::from_usize(c)).collect();
     let mut indices = vec![I::default(); m];
-    let mut edge_ids = if with_edge_ids {
-        vec![I::default(); m]
-    } else {
-        Vec::new()
-    };
+    let mut edge_ids = if with_edge_ids { vec![I::default(); m] } else { Vec::new() };
     for (k, (u, v)) in src.iter().zip(dst).enumerate() {
         let slot = &mut cursor[u.to_usize()];
         indices[*slot] = *v;
@@ -76,11 +60,7 @@ pub fn edges_to_csr<I: Idx>(
         }
         *slot += 1;
     }
-    Ok(OwnedCsr {
-        indptr,
-        indices,
-        edge_ids: with_edge_ids.then_some(edge_ids),
-    })
+    Ok(OwnedCsr { indptr, indices, edge_ids: with_edge_ids.then_some(edge_ids) })
 }
 
 #[cfg(test)]
@@ -107,25 +87,9 @@ mod tests {
     #[test]
     fn bad_endpoints_are_named() {
         let e = edges_to_csr(&[0i64, -3], &[1, 1], 2, false).unwrap_err();
-        assert_eq!(
-            e,
-            Error::IndexOutOfRange {
-                what: "src",
-                position: 1,
-                value: -3,
-                n: 2
-            }
-        );
+        assert_eq!(e, Error::IndexOutOfRange { what: "src", position: 1, value: -3, n: 2 });
         let e = edges_to_csr(&[0i32], &[5], 2, false).unwrap_err();
-        assert_eq!(
-            e,
-            Error::IndexOutOfRange {
-                what: "dst",
-                position: 0,
-                value: 5,
-                n: 2
-            }
-        );
+        assert_eq!(e, Error::IndexOutOfRange { what: "dst", position: 0, value: 5, n: 2 });
         let e = edges_to_csr(&[0i32], &[], 2, false).unwrap_err();
         assert!(matches!(e, Error::LengthMismatch { what: "dst", .. }));
         let e = edges_to_csr::<i32>(&[], &[], 1 << 40, false).unwrap_err();

@@ -15,24 +15,11 @@ pub enum Error {
     /// `indptr[n]` must equal the number of stored indices.
     IndptrEnd { value: i128, len: usize },
     /// An edge endpoint lies outside `0..n`.
-    IndexOutOfRange {
-        what: &'static str,
-        position: usize,
-        value: i128,
-        n: usize,
-    },
+    IndexOutOfRange { what: &'static str, position: usize, value: i128, n: usize },
     /// A per-node or per-edge array has the wrong length.
-    LengthMismatch {
-        what: &'static str,
-        expected: usize,
-        got: usize,
-    },
+    LengthMismatch { what: &'static str, expected: usize, got: usize },
     /// The node or edge count does not fit the index width.
-    TooLarge {
-        what: &'static str,
-        count: usize,
-        max: usize,
-    },
+    TooLarge { what: &'static str, count: usize, max: usize },
     /// A float key is NaN.
     NanKey { node: usize },
 }
@@ -51,27 +38,15 @@ impl fmt::Display for Error {
                 f,
                 "indptr[-1] is {value} but there are {len} stored indices; they must be equal"
             ),
-            Error::IndexOutOfRange {
-                what,
-                position,
-                value,
-                n,
-            } => write!(
+            Error::IndexOutOfRange { what, position, value, n } => write!(
                 f,
                 "{what}[{position}] = {value} is not a node id; ids must lie in 0..{n} (n = {n})"
             ),
-            Error::LengthMismatch {
-                what,
-                expected,
-                got,
-            } => {
+            Error::LengthMismatch { what, expected, got } => {
                 write!(f, "{what} has length {got}, expected {expected}")
             }
             Error::TooLarge { what, count, max } => {
-                write!(
-                    f,
-                    "{what} = {count} exceeds {max}, the largest this index width can hold"
-                )
+                write!(f, "{what} = {count} exceeds {max}, the largest this index width can hold")
             }
             Error::NanKey { node } => write!(f, "key[{node}] is NaN; keys must be comparable"),
         }
@@ -86,12 +61,7 @@ mod tests {
 
     #[test]
     fn messages_name_the_value() {
-        let e = Error::IndexOutOfRange {
-            what: "indices",
-            position: 3,
-            value: -2,
-            n: 5,
-        };
+        let e = Error::IndexOutOfRange { what: "indices", position: 3, value: -2, n: 5 };
         let text = e.to_string();
         assert!(text.contains("indices[3] = -2"), "{text}");
         assert!(Error::NanKey { node: 9 }.to_string().contains("key[9]"));

@@ -12,10 +12,8 @@
 //! cycle: the outcome then lists the blocked nodes and one directed cycle
 //! among them instead of failing, so callers choose what to do.
 
-use std::cmp::Reverse;
-use std::collections::BinaryHeap;
-
 use crate::csr::Count;
+use crate::heap::QuadHeap;
 use crate::rng::SplitMix64;
 use crate::{Csr, Error, Idx};
 
@@ -99,11 +97,7 @@ impl<I> Outcome<I> {
 /// Run Kahn's algorithm on `csr` under `tie`.
 pub fn kahn<I: Idx>(csr: &Csr<'_, I>, tie: &Tie<'_>) -> Result<Outcome<I>, Error> {
     let n = csr.n();
-    if let Tie::Priority(Key {
-        values: Some(values),
-        ..
-    }) = tie
-    {
+    if let Tie::Priority(Key { values: Some(values), .. }) = tie {
         check_key(values, n)?;
     }
     if csr.m() <= u32::MAX as usize {
@@ -122,69 +116,31 @@ fn run_policy<I: Idx, C: Count>(csr: &Csr<'_, I>, tie: &Tie<'_>) -> Result<Outco
     match *tie {
         Tie::Queue => run_queue(csr, &mut indegree, &mut order),
         Tie::Stack => run(csr, &mut indegree, &mut order, &mut Vec::new()),
-        Tie::Priority(Key {
-            values: None,
-            descending: false,
-        }) => run(
-            csr,
-            &mut indegree,
-            &mut order,
-            &mut IdHeap(BinaryHeap::new()),
-        ),
-        Tie::Priority(Key {
-            values: None,
-            descending: true,
-        }) => run(
-            csr,
-            &mut indegree,
-            &mut order,
-            &mut IdHeapDesc(BinaryHeap::new()),
-        ),
-        Tie::Priority(Key {
-            values: Some(values),
-            descending,
-        }) => {
-            let mut heap = KeyHeap {
-                heap: BinaryHeap::new(),
-                values,
-                flip: if descending { !0 } else { 0 },
-            };
+        Tie::Priority(Key { values: None, descending }) => {
+            let mut heap = IdHeap { heap: QuadHeap::new(), flip: if descending { !0 } else { 0 } };
+            run(csr, &mut indegree, &mut order, &mut heap)
+        }
+        Tie::Priority(Key { values: Some(values), descending }) => {
+            let mut heap =
+                KeyHeap { heap: QuadHeap::new(), values, flip: if descending { !0 } else { 0 } };
             run(csr, &mut indegree, &mut order, &mut heap)
         }
         Tie::Random { seed } => {
-            let mut ready = RandomPick {
-                items: Vec::new(),
-                rng: SplitMix64::new(seed),
-            };
+            let mut ready = RandomPick { items: Vec::new(), rng: SplitMix64::new(seed) };
             run(csr, &mut indegree, &mut order, &mut ready)
         }
     }
     if order.len() == n {
-        return Ok(Outcome {
-            order,
-            blocked: Vec::new(),
-            cycle: Vec::new(),
-        });
+        return Ok(Outcome { order, blocked: Vec::new(), cycle: Vec::new() });
     }
-    let blocked: Vec<I> = (0..n)
-        .filter(|&v| !indegree[v].is_zero())
-        .map(I::from_usize)
-        .collect();
+    let blocked: Vec<I> = (0..n).filter(|&v| !indegree[v].is_zero()).map(I::from_usize).collect();
     let cycle = cycle_among_blocked(csr, &indegree, blocked[0].to_usize());
-    Ok(Outcome {
-        order,
-        blocked,
-        cycle,
-    })
+    Ok(Outcome { order, blocked, cycle })
 }
 
 fn check_key(values: &KeyValues<'_>, n: usize) -> Result<(), Error> {
     if values.len() != n {
-        return Err(Error::LengthMismatch {
-            what: "key",
-            expected: n,
-            got: values.len(),
-        });
+        return Err(Error::LengthMismatch { what: "key", expected: n, got: values.len() });
     }
     if let KeyValues::F64(v) = values {
         if let Some(node) = v.iter().position(|x| x.is_nan()) {
@@ -211,49 +167,42 @@ impl<I> Ready<I> for Vec<I> {
     }
 }
 
-struct IdHeap<I>(BinaryHeap<Reverse<I>>);
-
-impl<I: Idx> Ready<I> for IdHeap<I> {
-    #[inline]
-    fn push(&mut self, node: I) {
-        self.0.push(Reverse(node))
-    }
-    #[inline]
-    fn pop(&mut self) -> Option<I> {
-        self.0.pop().map(|Reverse(node)| node)
-    }
-}
-
-/// Largest id first (the id is its own key, so there are no ties).
-struct IdHeapDesc<I>(BinaryHeap<I>);
-
-impl<I: Idx> Ready<I> for IdHeapDesc<I> {
-    #[inline]
-    fn push(&mut self, node: I) {
-        self.0.push(node)
-    }
-    #[inline]
-    fn pop(&mut self) -> Option<I> {
-        self.0.pop()
-    }
-}
-
-struct KeyHeap<'a, I> {
-    heap: BinaryHeap<Reverse<(u64, I)>>,
-    values: KeyValues<'a>,
-    /// XOR mask: all ones reverses the key order, leaving the id tie-break.
+/// Smallest (or, flipped, largest) id first: the id is its own key.
+struct IdHeap {
+    heap: QuadHeap<u64>,
+    /// XOR mask: all ones reverses the order.
     flip: u64,
 }
 
-impl<I: Idx> Ready<I> for KeyHeap<'_, I> {
+impl<I: Idx> Ready<I> for IdHeap {
     #[inline]
     fn push(&mut self, node: I) {
-        let rank = self.values.rank(node.to_usize()) ^ self.flip;
-        self.heap.push(Reverse((rank, node)))
+        self.heap.push(node.to_usize() as u64 ^ self.flip)
     }
     #[inline]
     fn pop(&mut self) -> Option<I> {
-        self.heap.pop().map(|Reverse((_, node))| node)
+        self.heap.pop().map(|entry| I::from_usize((entry ^ self.flip) as usize))
+    }
+}
+
+/// Smallest key first, ties to the smaller id: entries pack the key's rank
+/// above the id, so one integer comparison decides.
+struct KeyHeap<'a> {
+    heap: QuadHeap<u128>,
+    values: KeyValues<'a>,
+    /// XOR mask on the rank: all ones reverses the key order, not the id order.
+    flip: u64,
+}
+
+impl<I: Idx> Ready<I> for KeyHeap<'_> {
+    #[inline]
+    fn push(&mut self, node: I) {
+        let rank = self.values.rank(node.to_usize()) ^ self.flip;
+        self.heap.push(((rank as u128) << 64) | node.to_usize() as u128)
+    }
+    #[inline]
+    fn pop(&mut self) -> Option<I> {
+        self.heap.pop().map(|entry| I::from_usize(entry as u64 as usize))
     }
 }
 
@@ -433,9 +382,7 @@ mod tests {
         for &v in indices {
             indegree[v as usize] += 1;
         }
-        let mut ready: Vec<i64> = (0..n as i64)
-            .filter(|&v| indegree[v as usize] == 0)
-            .collect();
+        let mut ready: Vec<i64> = (0..n as i64).filter(|&v| indegree[v as usize] == 0).collect();
         let mut order = Vec::new();
         while !ready.is_empty() {
             let u = ready.remove(pick(&ready));
@@ -513,33 +460,17 @@ mod tests {
             assert_eq!(run_policy::<i64, u64>(&g, &Tie::Queue).unwrap().order, queue);
             assert_eq!(run_policy::<i64, u64>(&g, &Tie::Stack).unwrap().order, stack);
             assert_eq!(run(Tie::Priority(Key::default())), by_id);
-            assert_eq!(
-                run(Tie::Priority(Key {
-                    values: None,
-                    descending: true
-                })),
-                by_id_desc
-            );
-            let f = Key {
-                values: Some(KeyValues::F64(&key)),
-                descending: false,
-            };
+            assert_eq!(run(Tie::Priority(Key { values: None, descending: true })), by_id_desc);
+            let f = Key { values: Some(KeyValues::F64(&key)), descending: false };
             assert_eq!(run(Tie::Priority(f)), by_key);
-            let f = Key {
-                values: Some(KeyValues::F64(&key)),
-                descending: true,
-            };
+            let f = Key { values: Some(KeyValues::F64(&key)), descending: true };
             assert_eq!(run(Tie::Priority(f)), by_key_desc);
-            let i = Key {
-                values: Some(KeyValues::I64(&ikey)),
-                descending: false,
-            };
+            let i = Key { values: Some(KeyValues::I64(&ikey)), descending: false };
             assert_eq!(run(Tie::Priority(i)), by_key);
 
             let mut pick_rng = SplitMix64::new(99);
-            let random = reference(&indptr, &indices, &mut |r| {
-                pick_rng.below(r.len() as u64) as usize
-            });
+            let random =
+                reference(&indptr, &indices, &mut |r| pick_rng.below(r.len() as u64) as usize);
             let ours = run(Tie::Random { seed: 99 });
             assert_eq!(ours.len(), random.len());
             assert_eq!(ours, run(Tie::Random { seed: 99 }), "same seed, same order");
@@ -608,19 +539,10 @@ mod tests {
     fn bad_keys_are_errors() {
         let g = Csr::new(&[0i32, 0, 0], &[]).unwrap();
         let short = [1.0];
-        let tie = Tie::Priority(Key {
-            values: Some(KeyValues::F64(&short)),
-            descending: false,
-        });
-        assert!(matches!(
-            kahn(&g, &tie),
-            Err(Error::LengthMismatch { what: "key", .. })
-        ));
+        let tie = Tie::Priority(Key { values: Some(KeyValues::F64(&short)), descending: false });
+        assert!(matches!(kahn(&g, &tie), Err(Error::LengthMismatch { what: "key", .. })));
         let nan = [1.0, f64::NAN];
-        let tie = Tie::Priority(Key {
-            values: Some(KeyValues::F64(&nan)),
-            descending: false,
-        });
+        let tie = Tie::Priority(Key { values: Some(KeyValues::F64(&nan)), descending: false });
         assert_eq!(kahn(&g, &tie).unwrap_err(), Error::NanKey { node: 1 });
     }
 

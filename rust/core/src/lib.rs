@@ -11,6 +11,7 @@
 pub mod csr;
 pub mod edges;
 pub mod error;
+pub mod heap;
 pub mod index;
 pub mod kahn;
 pub mod rng;

@@ -8,21 +8,11 @@ pub enum Violation {
     /// `order[position]` is not a node id.
     OutOfRange { position: usize, value: i128 },
     /// `node` appears at `first` and again at `second`.
-    Duplicate {
-        node: usize,
-        first: usize,
-        second: usize,
-    },
+    Duplicate { node: usize, first: usize, second: usize },
     /// `node` (the smallest missing one) does not appear.
     Missing { node: usize },
     /// Stored edge number `edge`, `u -> v`, goes backwards (or is a self-loop).
-    Edge {
-        edge: usize,
-        u: usize,
-        v: usize,
-        pos_u: usize,
-        pos_v: usize,
-    },
+    Edge { edge: usize, u: usize, v: usize, pos_u: usize, pos_v: usize },
 }
 
 /// Position of every node in `order`, which must be a permutation of `0..n`.
@@ -32,18 +22,9 @@ pub fn positions<J: Idx>(order: &[J], n: usize) -> Result<Vec<J>, Violation> {
     for (p, v) in order.iter().enumerate() {
         let node = v.to_usize();
         match position.get_mut(node) {
-            None => {
-                return Err(Violation::OutOfRange {
-                    position: p,
-                    value: v.to_i128(),
-                })
-            }
+            None => return Err(Violation::OutOfRange { position: p, value: v.to_i128() }),
             Some(slot) if *slot != unset => {
-                return Err(Violation::Duplicate {
-                    node,
-                    first: *slot,
-                    second: p,
-                })
+                return Err(Violation::Duplicate { node, first: *slot, second: p })
             }
             Some(slot) => *slot = p,
         }
@@ -71,13 +52,7 @@ pub fn verify<I: Idx, J: Idx>(csr: &Csr<'_, I>, order: &[J]) -> Result<Option<Vi
             let pos_v = position[v.to_usize()].to_usize();
             if pos_v <= pos_u {
                 let v = v.to_usize();
-                return Ok(Some(Violation::Edge {
-                    edge: start + offset,
-                    u,
-                    v,
-                    pos_u,
-                    pos_v,
-                }));
+                return Ok(Some(Violation::Edge { edge: start + offset, u, v, pos_u, pos_v }));
             }
         }
     }
@@ -93,22 +68,12 @@ mod tests {
         assert_eq!(positions(&[2i32, 0, 1], 3).unwrap(), vec![1, 2, 0]);
         assert_eq!(
             positions(&[2i32, 0, 2], 3).unwrap_err(),
-            Violation::Duplicate {
-                node: 2,
-                first: 0,
-                second: 2
-            }
+            Violation::Duplicate { node: 2, first: 0, second: 2 }
         );
-        assert_eq!(
-            positions(&[2i32, 0], 3).unwrap_err(),
-            Violation::Missing { node: 1 }
-        );
+        assert_eq!(positions(&[2i32, 0], 3).unwrap_err(), Violation::Missing { node: 1 });
         assert_eq!(
             positions(&[0i64, -1], 2).unwrap_err(),
-            Violation::OutOfRange {
-                position: 1,
-                value: -1
-            }
+            Violation::OutOfRange { position: 1, value: -1 }
         );
     }
 
@@ -119,13 +84,7 @@ mod tests {
         assert_eq!(verify(&g, &[0i64, 2, 1]).unwrap(), None);
         assert_eq!(
             verify(&g, &[0i64, 1, 2]).unwrap(),
-            Some(Violation::Edge {
-                edge: 2,
-                u: 2,
-                v: 1,
-                pos_u: 2,
-                pos_v: 1
-            })
+            Some(Violation::Edge { edge: 2, u: 2, v: 1, pos_u: 2, pos_v: 1 })
         );
         let looped = Csr::new(&[0i64, 1], &[0]).unwrap();
         assert!(matches!(

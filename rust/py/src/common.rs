@@ -10,10 +10,7 @@ use toporank_core::Error;
 /// Turn a core error into the package's input error (a `ValueError`).
 pub(crate) fn to_pyerr(py: Python<'_>, error: Error) -> PyErr {
     let message = error.to_string();
-    match py
-        .import("toporank._errors")
-        .and_then(|m| m.getattr("GraphInputError"))
-    {
+    match py.import("toporank._errors").and_then(|m| m.getattr("GraphInputError")) {
         Ok(class) => PyErr::from_value(match class.call1((message.clone(),)) {
             Ok(instance) => instance,
             Err(e) => return e,
@@ -25,15 +22,14 @@ pub(crate) fn to_pyerr(py: Python<'_>, error: Error) -> PyErr {
 /// Run `work` without the GIL; a panic (a bug, never input) becomes a
 /// `RuntimeError` instead of crossing into Python as `PanicException`.
 pub(crate) fn compute<T: Send>(py: Python<'_>, work: impl FnOnce() -> T + Send) -> PyResult<T> {
-    py.detach(|| catch_unwind(AssertUnwindSafe(work)))
-        .map_err(|payload| {
-            let what = payload
-                .downcast_ref::<&str>()
-                .map(|s| s.to_string())
-                .or_else(|| payload.downcast_ref::<String>().cloned())
-                .unwrap_or_default();
-            PyRuntimeError::new_err(format!("toporank internal error (please report): {what}"))
-        })
+    py.detach(|| catch_unwind(AssertUnwindSafe(work))).map_err(|payload| {
+        let what = payload
+            .downcast_ref::<&str>()
+            .map(|s| s.to_string())
+            .or_else(|| payload.downcast_ref::<String>().cloned())
+            .unwrap_or_default();
+        PyRuntimeError::new_err(format!("toporank internal error (please report): {what}"))
+    })
 }
 
 pub(crate) fn slice<'a, T: numpy::Element>(

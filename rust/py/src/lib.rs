@@ -13,18 +13,16 @@ use pyo3::prelude::*;
 /// (int32 or int64, both the same), binding typed read-only arrays.
 macro_rules! with_index_width {
     ($indptr:ident, $indices:ident, $ty:ident => $body:block) => {{
-        if let (Ok($indptr), Ok($indices)) = (
-            $indptr.cast::<PyArray1<i64>>(),
-            $indices.cast::<PyArray1<i64>>(),
-        ) {
+        if let (Ok($indptr), Ok($indices)) =
+            ($indptr.cast::<PyArray1<i64>>(), $indices.cast::<PyArray1<i64>>())
+        {
             type $ty = i64;
             let $indptr = $indptr.readonly();
             let $indices = $indices.readonly();
             $body
-        } else if let (Ok($indptr), Ok($indices)) = (
-            $indptr.cast::<PyArray1<i32>>(),
-            $indices.cast::<PyArray1<i32>>(),
-        ) {
+        } else if let (Ok($indptr), Ok($indices)) =
+            ($indptr.cast::<PyArray1<i32>>(), $indices.cast::<PyArray1<i32>>())
+        {
             type $ty = i32;
             let $indptr = $indptr.readonly();
             let $indices = $indices.readonly();

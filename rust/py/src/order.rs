@@ -29,9 +29,7 @@ fn read_key<'py>(key: Option<&Bound<'py, PyAny>>) -> PyResult<OwnedKey<'py>> {
     if let Ok(a) = key.cast::<PyArray1<f64>>() {
         return Ok(OwnedKey::F64(a.readonly()));
     }
-    Err(PyTypeError::new_err(
-        "key must be a 1-D numpy array of int64, uint64 or float64",
-    ))
+    Err(PyTypeError::new_err("key must be a 1-D numpy array of int64, uint64 or float64"))
 }
 
 /// Kahn's algorithm on a CSR graph.
@@ -100,19 +98,13 @@ fn violation_tuple<'py>(py: Python<'py>, violation: Violation) -> PyResult<Bound
         Violation::OutOfRange { position, value } => {
             ("out_of_range", position, value as i64).into_pyobject(py)
         }
-        Violation::Duplicate {
-            node,
-            first,
-            second,
-        } => ("duplicate", node, first, second).into_pyobject(py),
+        Violation::Duplicate { node, first, second } => {
+            ("duplicate", node, first, second).into_pyobject(py)
+        }
         Violation::Missing { node } => ("missing", node).into_pyobject(py),
-        Violation::Edge {
-            edge,
-            u,
-            v,
-            pos_u,
-            pos_v,
-        } => ("edge", edge, u, v, pos_u, pos_v).into_pyobject(py),
+        Violation::Edge { edge, u, v, pos_u, pos_v } => {
+            ("edge", edge, u, v, pos_u, pos_v).into_pyobject(py)
+        }
     }
 }
 
