@@ -24,6 +24,12 @@ impl<T: Copy + Ord> QuadHeap<T> {
         self.items.is_empty()
     }
 
+    /// The smallest item, without removing it.
+    #[inline]
+    pub fn peek(&self) -> Option<T> {
+        self.items.first().copied()
+    }
+
     /// Add `item`, moving larger parents down until its place is found.
     #[inline]
     pub fn push(&mut self, item: T) {
