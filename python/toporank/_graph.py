@@ -302,6 +302,11 @@ def node_ids(graph: Graph, nodes: Any, name: str) -> np.ndarray:
     if graph.labels is not None:
         index = graph.label_index
         return np.fromiter((index.get(x, -1) for x in nodes), dtype=np.int64, count=len(nodes))
+    return integer_ids(nodes, name)
+
+
+def integer_ids(nodes: Any, name: str) -> np.ndarray:
+    """Integer node ids as an int64 array; values beyond int64 map to -1 (reported by callers)."""
     array = np.asarray(nodes)
     if array.ndim != 1:
         raise GraphInputError(f"{name} must be 1-D, got shape {array.shape}")
@@ -310,7 +315,7 @@ def node_ids(graph: Graph, nodes: Any, name: str) -> np.ndarray:
     if array.dtype.kind not in "iu":
         raise GraphInputError(f"{name} has dtype {array.dtype}, expected integer node ids")
     if array.dtype == np.uint64 and int(array.max()) > np.iinfo(np.int64).max:
-        return np.full(len(array), -1, dtype=np.int64)
+        return np.where(array > np.iinfo(np.int64).max, -1, array).astype(np.int64)
     return np.ascontiguousarray(array, dtype=np.int64)
 
 

@@ -9,7 +9,7 @@ import numpy as np
 
 from . import _core
 from ._errors import CyclicGraphError, GraphInputError, InvalidOrderError
-from ._graph import Graph, as_graph, as_nodes, node_ids, node_key
+from ._graph import Graph, as_graph, as_nodes, integer_ids, node_ids, node_key
 
 __all__ = ["TIES", "order", "positions", "verify_order"]
 
@@ -159,7 +159,7 @@ def positions(order: Any) -> np.ndarray:
             f"order must be a 1-D integer array, got dtype {array.dtype} and shape "
             f"{array.shape}; for labels use {{label: i for i, label in enumerate(order)}}"
         )
-    ids = node_ids(Graph(np.zeros(1, np.int64), np.zeros(0, np.int64)), array, "order")
+    ids = integer_ids(array, "order")
     found = _core.positions(ids, len(ids))
     if isinstance(found, tuple):
         raise _order_error(None, found, ids, array)
