@@ -13,7 +13,9 @@ pub mod edges;
 pub mod error;
 pub mod index;
 pub mod kahn;
+pub mod metrics;
 pub mod rng;
+pub mod schedule;
 pub mod verify;
 
 pub use csr::Csr;
