@@ -17,3 +17,18 @@ def verify_order(
     indptr: np.ndarray, indices: np.ndarray, order: np.ndarray
 ) -> tuple[object, ...] | None: ...
 def positions(order: np.ndarray, n: int) -> np.ndarray | tuple[object, ...]: ...
+def order_metrics(
+    indptr: np.ndarray, indices: np.ndarray, order: np.ndarray, rank: np.ndarray | None = None
+) -> tuple[object, ...] | None: ...
+def list_schedule(
+    indptr: np.ndarray,
+    indices: np.ndarray,
+    durations: np.ndarray,
+    workers: int,
+    policy: str,
+    rank: np.ndarray | None = None,
+    seed: int = 0,
+) -> tuple[tuple[object, ...] | None, tuple[np.ndarray, np.ndarray, np.ndarray] | None]: ...
+def bottom_levels(
+    indptr: np.ndarray, indices: np.ndarray, durations: np.ndarray
+) -> tuple[np.ndarray | None, tuple[np.ndarray, np.ndarray, np.ndarray] | None]: ...
