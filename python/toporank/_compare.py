@@ -161,6 +161,10 @@ class Comparison:
     def __str__(self) -> str:
         return self.table()
 
+    def __repr__(self) -> str:
+        scheduled = "" if self.workers is None else f", workers={self.workers}"
+        return f"Comparison(ties={self.ties}, n={self.n}, m={self.m}{scheduled})"
+
     def to_csv(self, path: str | os.PathLike[str] | None = None) -> str:
         """The records as CSV text (header row first); also written to ``path`` if given."""
         rows = self.records()

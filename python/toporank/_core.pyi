@@ -1,5 +1,7 @@
 """Type stubs of the compiled core. Private: call the functions of ``toporank``."""
 
+from typing import Any
+
 import numpy as np
 
 def kahn_order(
@@ -19,7 +21,7 @@ def verify_order(
 def positions(order: np.ndarray, n: int) -> np.ndarray | tuple[object, ...]: ...
 def order_metrics(
     indptr: np.ndarray, indices: np.ndarray, order: np.ndarray, rank: np.ndarray | None = None
-) -> tuple[object, ...] | None: ...
+) -> tuple[Any, ...] | None: ...
 def list_schedule(
     indptr: np.ndarray,
     indices: np.ndarray,
@@ -28,7 +30,7 @@ def list_schedule(
     policy: str,
     rank: np.ndarray | None = None,
     seed: int = 0,
-) -> tuple[tuple[object, ...] | None, tuple[np.ndarray, np.ndarray, np.ndarray] | None]: ...
+) -> tuple[Any, Any]: ...
 def bottom_levels(
     indptr: np.ndarray, indices: np.ndarray, durations: np.ndarray
-) -> tuple[np.ndarray | None, tuple[np.ndarray, np.ndarray, np.ndarray] | None]: ...
+) -> tuple[Any, Any]: ...

@@ -4,7 +4,7 @@ from __future__ import annotations
 
 import operator
 from dataclasses import dataclass, field
-from typing import Any, Literal
+from typing import Any, Literal, NoReturn
 
 import numpy as np
 
@@ -268,11 +268,11 @@ def task_durations(g: Graph, duration: Any) -> np.ndarray:
                 f"times{_label(g, node)}; pass float durations"
             )
         values = values.astype(np.int64)
-    bad = np.flatnonzero(~np.isfinite(values) | (values < 0)) if len(values) else []
+    bad = np.flatnonzero(~np.isfinite(values) | (values < 0))
     if len(bad):
         node = int(bad[0])
         raise GraphInputError(
-            f"duration[{node}] = {values[node]!r} is not a duration{_label(g, node)}; "
+            f"duration[{node}] = {values[node].item()!r} is not a duration{_label(g, node)}; "
             "durations must be finite and >= 0"
         )
     return values
@@ -282,6 +282,7 @@ def _label(g: Graph, node: int) -> str:
     return "" if g.labels is None else f" (node {g.labels[node]!r})"
 
 
-def raise_cycle(g: Graph, cyclic: tuple[np.ndarray, np.ndarray, np.ndarray]) -> None:
+def raise_cycle(g: Graph, cyclic: tuple[np.ndarray, np.ndarray, np.ndarray]) -> NoReturn:
+    """Raise CyclicGraphError from the core's ``(order, blocked, cycle)``."""
     emitted, blocked, cycle = cyclic
     raise CyclicGraphError(as_nodes(g, cycle), as_nodes(g, emitted), as_nodes(g, blocked))
