@@ -48,7 +48,7 @@ _COLUMNS: tuple[tuple[str, str, Callable[[Any], str], str], ...] = (
     ("makespan_ratio", "/ bound", lambda v: f"{v:.3f}", "min"),
 )
 _BEST = {name: best for name, _, _, best in _COLUMNS}
-# The measures drawn as bars, each relative to the best policy.
+# The measures drawn as bar charts, one panel each.
 _BARS = (
     ("ready_peak", "ready peak"),
     ("live_peak", "live peak"),
@@ -201,9 +201,9 @@ class Comparison:
 
         Left: the ready-set size over the run for each policy (x: share of
         steps done; each of at most ``points`` bins shows its largest value,
-        so peaks survive). Right: the headline measures (ready peak, live
-        peak, mean span, makespan when scheduled) of each policy relative
-        to the best one (1 = best). ``log`` puts the left plot on a log
+        so peaks survive). Right: one small bar chart per headline measure
+        (ready peak, live peak, mean span, and makespan when scheduled),
+        the best policy labelled. ``log`` puts the left plot on a log
         scale; by default it does when the peaks differ more than 50-fold.
         Needs matplotlib (``pip install 'toporank[plot]'``); draws with the
         Agg canvas, so no display is needed and pyplot's state is untouched.
@@ -216,13 +216,15 @@ class Comparison:
             ) from exc
         if isinstance(points, bool) or operator.index(points) < 1:
             raise GraphInputError(f"points must be a positive integer, got {points!r}")
-        fig = Figure(figsize=(12, 4.8), layout="constrained")
-        left, right = fig.subplots(1, 2, width_ratios=[3, 2])
+        fig = Figure(figsize=(13, 5), layout="constrained")
+        curves, panels = fig.subfigures(1, 2, width_ratios=[3, 2])
+        left = curves.subplots()
+        colors = _colors(len(self.ties))
         peaks = []
-        for tie in self.ties:
+        for tie, color in zip(self.ties, colors, strict=True):
             sizes = self.metrics[tie].ready_sizes
             x, y = _binned_max(sizes, operator.index(points))
-            left.step(x, y, where="post", label=tie, linewidth=1.2)
+            left.step(x, y, where="post", label=tie, color=color, linewidth=1.2)
             peaks.append(int(sizes.max()) if len(sizes) else 0)
         positive = [p for p in peaks if p > 0]
         if log is None:
@@ -237,19 +239,23 @@ class Comparison:
 
         rows = self.records()
         bars = [(name, title) for name, title in _BARS if rows and name in rows[0]]
-        width = 0.8 / max(len(self.ties), 1)
-        for k, tie in enumerate(self.ties):
-            heights = [_relative(rows, name, k) for name, _ in bars]
-            offsets = [b + (k - (len(self.ties) - 1) / 2) * width for b in range(len(bars))]
-            right.bar(offsets, heights, width=width, label=tie)
-        right.set_xticks(range(len(bars)), [title for _, title in bars])
-        right.axhline(1.0, color="black", linewidth=0.8)
-        right.set_ylabel("relative to the best policy (1 = best)")
-        title = "Headline measures"
-        if self.workers is not None:
-            title += f" (makespan on {self.workers} workers)"
-        right.set_title(title)
-        right.grid(axis="y", alpha=0.3)
+        axes = panels.subplots(2, 2).ravel()
+        for ax, (name, title) in zip(axes, bars, strict=False):
+            values = [float(row[name]) for row in rows]
+            ax.bar(range(len(rows)), values, color=colors)
+            best = min(values)
+            for k, value in enumerate(values):
+                if value == best:
+                    ax.annotate("best", (k, value), ha="center", va="bottom", fontsize=8)
+            ax.set_xticks(range(len(rows)), list(self.ties), rotation=30, fontsize=8)
+            if name == "makespan" and self.workers is not None:
+                title += f" ({self.workers} workers)"
+            ax.set_title(title, fontsize=10)
+            ax.margins(y=0.15)
+            ax.grid(axis="y", alpha=0.3)
+        for ax in axes[len(bars) :]:
+            ax.set_visible(False)
+        panels.suptitle("Headline measures (smaller is better)")
         target = Path(path)
         fig.savefig(target, format="png", dpi=dpi)
         return target
@@ -266,12 +272,12 @@ def _binned_max(sizes: np.ndarray, points: int) -> tuple[np.ndarray, np.ndarray]
     return np.append(starts / n, 1.0), np.append(y, y[-1])
 
 
-def _relative(rows: list[dict[str, Any]], name: str, k: int) -> float:
-    values = [float(row[name]) for row in rows]
-    best = min(values)
-    if best == 0:
-        return 1.0 if values[k] == 0 else math.nan
-    return values[k] / best
+def _colors(count: int) -> list[Any]:
+    """``count`` colours from matplotlib's default cycle, repeating if needed."""
+    from matplotlib import rcParams
+
+    cycle = rcParams["axes.prop_cycle"].by_key().get("color", ["C0"])
+    return [cycle[k % len(cycle)] for k in range(count)]
 
 
 def compare(
