@@ -217,7 +217,7 @@ class Comparison:
         if isinstance(points, bool) or operator.index(points) < 1:
             raise GraphInputError(f"points must be a positive integer, got {points!r}")
         fig = Figure(figsize=(13, 5), layout="constrained")
-        curves, panels = fig.subfigures(1, 2, width_ratios=[3, 2])
+        curves, panels = fig.subfigures(1, 2, width_ratios=[3, 2]).ravel()
         left = curves.subplots()
         colors = _colors(len(self.ties))
         peaks = []
