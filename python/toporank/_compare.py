@@ -217,7 +217,8 @@ class Comparison:
         if isinstance(points, bool) or operator.index(points) < 1:
             raise GraphInputError(f"points must be a positive integer, got {points!r}")
         fig = Figure(figsize=(13, 5), layout="constrained")
-        curves, panels = fig.subfigures(1, 2, width_ratios=[3, 2]).ravel()
+        halves: Any = fig.subfigures(1, 2, width_ratios=[3, 2])
+        curves, panels = halves
         left = curves.subplots()
         colors = _colors(len(self.ties))
         peaks = []
