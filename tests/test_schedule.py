@@ -159,6 +159,12 @@ def test_bad_arguments_are_named():
         toporank.schedule(edges, workers=1, duration=np.array([2**62, 2**62, 2**62]))
 
 
+def test_more_workers_than_tasks():
+    s = toporank.schedule(np.array([[0, 1], [0, 2]]), workers=2**70)
+    assert s.makespan == 2 and s.workers == 2**70
+    assert s.worker.tolist() == [0, 0, 1]
+
+
 def test_cycles_are_reported():
     for tie in ("queue", "critical"):
         with pytest.raises(toporank.CyclicGraphError) as info:

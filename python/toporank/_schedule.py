@@ -214,7 +214,9 @@ def run_schedule(
     else:
         raise GraphInputError(f"tie must be one of {SCHEDULE_TIES}, got {tie!r}")
     durations = task_durations(g, duration)
-    done, cyclic = _core.list_schedule(g.indptr, g.indices, durations, count, tie, rank, seed_value)
+    # Workers beyond the task count stay idle; capping keeps huge counts in range.
+    slots = min(count, max(g.n, 1))
+    done, cyclic = _core.list_schedule(g.indptr, g.indices, durations, slots, tie, rank, seed_value)
     if done is None:
         raise_cycle(g, cyclic)
     start, worker, started, makespan, critical_path, total_work = done
