@@ -17,6 +17,7 @@ import time
 
 import numpy as np
 import pytest
+
 import toporank
 from toporank._synthetic import citation_dag
 

@@ -11,6 +11,7 @@ import sys
 
 import numpy as np
 import pytest
+
 import toporank
 from toporank import _compare, _metrics, _schedule
 from toporank._synthetic import citation_dag

@@ -11,10 +11,11 @@ import math
 import networkx as nx
 import numpy as np
 import pytest
-import toporank
-from graphs import edge_lists, to_networkx
 from hypothesis import given, settings
 from hypothesis import strategies as st
+
+import toporank
+from graphs import edge_lists, to_networkx
 from toporank._synthetic import citation_dag
 
 

@@ -5,10 +5,11 @@ from __future__ import annotations
 import networkx as nx
 import numpy as np
 import pytest
-import toporank
-from graphs import edge_lists
 from hypothesis import given, settings
 from hypothesis import strategies as st
+
+import toporank
+from graphs import edge_lists
 
 
 def check_feasible(src, dst, durations, s):

@@ -4,6 +4,8 @@ from typing import Any
 
 import numpy as np
 
+__all__ = ["edges_to_csr", "kahn_order", "positions", "verify_order"]
+
 def kahn_order(
     indptr: np.ndarray,
     indices: np.ndarray,
@@ -19,6 +21,8 @@ def verify_order(
     indptr: np.ndarray, indices: np.ndarray, order: np.ndarray
 ) -> tuple[object, ...] | None: ...
 def positions(order: np.ndarray, n: int) -> np.ndarray | tuple[object, ...]: ...
+__all__ += ["bottom_levels", "list_schedule", "order_metrics"]
+
 def order_metrics(
     indptr: np.ndarray, indices: np.ndarray, order: np.ndarray, rank: np.ndarray | None = None
 ) -> tuple[Any, ...] | None: ...

@@ -79,13 +79,7 @@ pub fn order_metrics<I: Idx, J: Idx>(
             if pos_v <= pos_u {
                 // A malformed graph outranks a bad order: report it first.
                 csr.check_indices()?;
-                return Ok(Err(Violation::Edge {
-                    edge,
-                    u,
-                    v,
-                    pos_u,
-                    pos_v,
-                }));
+                return Ok(Err(Violation::Edge { edge, u, v, pos_u, pos_v }));
             }
             let span = pos_v - pos_u;
             span_total += span as u128;
@@ -168,19 +162,11 @@ pub fn key_agreement<I: Idx, J: Idx>(
     let n = csr.n();
     for (what, len) in [("order", order.len()), ("key rank", rank.len())] {
         if len != n {
-            return Err(Error::LengthMismatch {
-                what,
-                expected: n,
-                got: len,
-            });
+            return Err(Error::LengthMismatch { what, expected: n, got: len });
         }
     }
-    let out_of_range = |what, position: usize, value: i128| Error::IndexOutOfRange {
-        what,
-        position,
-        value,
-        n,
-    };
+    let out_of_range =
+        |what, position: usize, value: i128| Error::IndexOutOfRange { what, position, value, n };
     if let Some(node) = rank.iter().position(|&r| r < 0 || r as usize >= n.max(1)) {
         return Err(out_of_range("key rank", node, rank[node] as i128));
     }
@@ -212,22 +198,11 @@ pub fn key_agreement<I: Idx, J: Idx>(
     for &r in &sequence {
         group[r] += 1;
     }
-    let tied: u128 = group
-        .iter()
-        .map(|&c| (c as u128) * (c as u128).saturating_sub(1) / 2)
-        .sum();
+    let tied: u128 = group.iter().map(|&c| (c as u128) * (c as u128).saturating_sub(1) / 2).sum();
     let all = (n as u128) * (n as u128).saturating_sub(1) / 2;
     let disagree = count_inversions(&mut sequence);
-    let pairs = Agreement {
-        agree: all - disagree - tied,
-        disagree,
-        tied,
-    };
-    Ok(KeyAgreement {
-        pairs,
-        steps,
-        edges,
-    })
+    let pairs = Agreement { agree: all - disagree - tied, disagree, tied };
+    Ok(KeyAgreement { pairs, steps, edges })
 }
 
 #[inline]
@@ -360,9 +335,7 @@ mod tests {
         assert_eq!(m.live_sizes, vec![1, 1, 1, 0]);
         assert_eq!((m.span_total, m.span_max), (3, 1));
         let isolated = Csr::new(&[0i64; 6], &[]).unwrap();
-        let m = order_metrics(&isolated, &[4i64, 3, 2, 1, 0])
-            .unwrap()
-            .unwrap();
+        let m = order_metrics(&isolated, &[4i64, 3, 2, 1, 0]).unwrap().unwrap();
         assert_eq!(m.ready_sizes, vec![5, 4, 3, 2, 1]);
         assert_eq!(m.live_peak, 0);
     }
@@ -396,9 +369,8 @@ mod tests {
             let (indptr, indices) = random_dag(&mut rng);
             let g = Csr::new(&indptr, &indices).unwrap();
             let n = g.n();
-            let rank: Vec<i64> = (0..n)
-                .map(|_| rng.below(n.max(1) as u64 / 2 + 1) as i64)
-                .collect();
+            let rank: Vec<i64> =
+                (0..n).map(|_| rng.below(n.max(1) as u64 / 2 + 1) as i64).collect();
             let order = kahn(&g, &Tie::Random { seed: 3 }).unwrap().order;
             let ours = key_agreement(&g, &order, &rank).unwrap();
             let mut pairs = Agreement::default();
@@ -424,18 +396,11 @@ mod tests {
         let g = Csr::new(&[0i64, 0, 0], &[]).unwrap();
         assert!(matches!(
             key_agreement(&g, &[0i64, 1], &[0, 2]),
-            Err(Error::IndexOutOfRange {
-                what: "key rank",
-                position: 1,
-                ..
-            })
+            Err(Error::IndexOutOfRange { what: "key rank", position: 1, .. })
         ));
         assert!(matches!(
             key_agreement(&g, &[0i64, 1], &[0]),
-            Err(Error::LengthMismatch {
-                what: "key rank",
-                ..
-            })
+            Err(Error::LengthMismatch { what: "key rank", .. })
         ));
     }
 }

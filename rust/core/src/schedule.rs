@@ -135,23 +135,14 @@ pub enum Scheduled<I, T> {
 /// Check the durations and return their sum.
 fn total_work<T: Duration>(durations: &[T], n: usize) -> Result<T, Error> {
     if durations.len() != n {
-        return Err(Error::LengthMismatch {
-            what: "duration",
-            expected: n,
-            got: durations.len(),
-        });
+        return Err(Error::LengthMismatch { what: "duration", expected: n, got: durations.len() });
     }
     let mut total = T::ZERO;
     for (node, &d) in durations.iter().enumerate() {
         if !d.is_valid() {
-            return Err(Error::InvalidDuration {
-                node,
-                value: d.show(),
-            });
+            return Err(Error::InvalidDuration { node, value: d.show() });
         }
-        total = total
-            .checked_sum(d)
-            .ok_or(Error::DurationOverflow { total_of: node + 1 })?;
+        total = total.checked_sum(d).ok_or(Error::DurationOverflow { total_of: node + 1 })?;
     }
     Ok(total)
 }
@@ -195,14 +186,8 @@ fn sweep<I: Idx, T: Duration>(csr: &Csr<'_, I>, durations: &[T], order: &[I]) ->
 enum ReadySet<'a, I> {
     Queue(VecDeque<I>),
     Stack(Vec<I>),
-    Ranked {
-        heap: BinaryHeap<Reverse<(u64, I)>>,
-        rank: Option<&'a [u64]>,
-    },
-    Random {
-        items: Vec<I>,
-        rng: SplitMix64,
-    },
+    Ranked { heap: BinaryHeap<Reverse<(u64, I)>>, rank: Option<&'a [u64]> },
+    Random { items: Vec<I>, rng: SplitMix64 },
 }
 
 impl<I: Idx> ReadySet<'_, I> {
@@ -255,10 +240,9 @@ pub fn list_schedule<I: Idx, T: Duration>(
     let mut ready = match *policy {
         Policy::Queue => ReadySet::Queue(VecDeque::new()),
         Policy::Stack => ReadySet::Stack(Vec::new()),
-        Policy::Random { seed } => ReadySet::Random {
-            items: Vec::new(),
-            rng: SplitMix64::new(seed),
-        },
+        Policy::Random { seed } => {
+            ReadySet::Random { items: Vec::new(), rng: SplitMix64::new(seed) }
+        }
         Policy::Ranked(rank) => {
             if let Some(rank) = rank {
                 if rank.len() != n {
@@ -269,10 +253,7 @@ pub fn list_schedule<I: Idx, T: Duration>(
                     });
                 }
             }
-            ReadySet::Ranked {
-                heap: BinaryHeap::new(),
-                rank,
-            }
+            ReadySet::Ranked { heap: BinaryHeap::new(), rank }
         }
         Policy::CriticalPath => {
             let outcome = kahn(csr, &Tie::Queue)?;
@@ -282,10 +263,7 @@ pub fn list_schedule<I: Idx, T: Duration>(
             let level = sweep(csr, durations, &outcome.order);
             // Complemented so that the smallest rank is the largest level.
             critical_rank = level.iter().map(|l| !l.sort_key()).collect();
-            ReadySet::Ranked {
-                heap: BinaryHeap::new(),
-                rank: Some(&critical_rank),
-            }
+            ReadySet::Ranked { heap: BinaryHeap::new(), rank: Some(&critical_rank) }
         }
     };
     for (v, d) in indegree.iter().enumerate() {
@@ -464,10 +442,7 @@ mod tests {
                 for a in 0..n {
                     for b in a + 1..n {
                         let overlap = s.start[a] < finish(b) && s.start[b] < finish(a);
-                        assert!(
-                            !(s.worker[a] == s.worker[b] && overlap),
-                            "{a} and {b} overlap"
-                        );
+                        assert!(!(s.worker[a] == s.worker[b] && overlap), "{a} and {b} overlap");
                     }
                 }
                 let cp = longest_path(&indptr, &indices, &durations);
@@ -532,20 +507,14 @@ mod tests {
         assert!(err.to_string().contains("duration[1] = NaN"), "{err}");
         let err = list_schedule(&g, &[-3i64, 1], 2, &Policy::Queue).unwrap_err();
         assert!(err.to_string().contains("duration[0] = -3"), "{err}");
-        assert_eq!(
-            list_schedule(&g, &[1i64, 1], 0, &Policy::Queue).unwrap_err(),
-            Error::NoWorkers
-        );
+        assert_eq!(list_schedule(&g, &[1i64, 1], 0, &Policy::Queue).unwrap_err(), Error::NoWorkers);
         assert_eq!(
             list_schedule(&g, &[i64::MAX, 1], 1, &Policy::Queue).unwrap_err(),
             Error::DurationOverflow { total_of: 2 }
         );
         assert!(matches!(
             list_schedule(&g, &[1i64], 1, &Policy::Queue),
-            Err(Error::LengthMismatch {
-                what: "duration",
-                ..
-            })
+            Err(Error::LengthMismatch { what: "duration", .. })
         ));
         let (indptr, indices) = graph(&[0, 1, 1], &[1, 2, 1], 3);
         let g = Csr::new(&indptr, &indices).unwrap();

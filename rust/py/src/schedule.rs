@@ -82,9 +82,7 @@ fn read_durations<'py>(durations: &Bound<'py, PyAny>) -> PyResult<Durations<'py>
     if let Ok(a) = durations.cast::<PyArray1<f64>>() {
         return Ok(Durations::Float(a.readonly()));
     }
-    Err(PyTypeError::new_err(
-        "durations must be a 1-D numpy array of int64 or float64",
-    ))
+    Err(PyTypeError::new_err("durations must be a 1-D numpy array of int64 or float64"))
 }
 
 /// Graham list schedule: `((start, worker, order, makespan, critical_path,
