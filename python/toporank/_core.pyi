@@ -21,6 +21,7 @@ def verify_order(
     indptr: np.ndarray, indices: np.ndarray, order: np.ndarray
 ) -> tuple[object, ...] | None: ...
 def positions(order: np.ndarray, n: int) -> np.ndarray | tuple[object, ...]: ...
+
 __all__ += ["bottom_levels", "list_schedule", "order_metrics"]
 
 def order_metrics(
