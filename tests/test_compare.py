@@ -53,6 +53,9 @@ def test_every_policy_matches_the_separate_calls(papers, comparison):
     # (publication year along citations) agrees with it on every decided pair.
     assert comparison.metrics["priority"]["key_pair_agreement"] == 1.0
     assert comparison.best("key_pair_agreement") == "priority"
+    assert comparison.best("ready_peak") == min(
+        comparison.ties, key=lambda t: comparison.metrics[t]["ready_peak"]
+    )
 
 
 def test_table_names_every_policy_and_marks_the_best(comparison):

@@ -47,7 +47,6 @@ _COLUMNS: tuple[tuple[str, str, Callable[[Any], str], str], ...] = (
     ("makespan", "makespan", lambda v: f"{v:g}" if isinstance(v, float) else str(v), "min"),
     ("makespan_ratio", "/ bound", lambda v: f"{v:.3f}", "min"),
 )
-_BEST = {name: best for name, _, _, best in _COLUMNS}
 # The measures drawn as bar charts, one panel each.
 _BARS = (
     ("ready_peak", "ready peak"),
@@ -121,7 +120,7 @@ class Comparison:
         if not rows or column not in rows[0] or column == "tie":
             known = [c for c in (rows[0] if rows else {}) if c != "tie"]
             raise GraphInputError(f"no column {column!r}; the columns are {known}")
-        sign = -1.0 if _BEST.get(column) == "max" else 1.0
+        sign = -1.0 if column.startswith("key_") else 1.0
         values = [sign * float(row[column]) for row in rows]
         values = [math.inf if math.isnan(v) else v for v in values]
         return str(rows[int(np.argmin(values))]["tie"])
