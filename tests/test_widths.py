@@ -34,9 +34,17 @@ CALLS = {
     "order": lambda g: toporank.order(g, tie="priority").tolist(),
     "positions": lambda g: toporank.positions(toporank.order(g)).tolist(),
     "verify_order": lambda g: toporank.verify_order(g, toporank.order(g)),
+    "order_metrics": lambda g: dict(
+        toporank.order_metrics(g, toporank.order(g), key=np.arange(N)[::-1])
+    ),
+    "schedule": lambda g: toporank.schedule(g, workers=2, tie="critical").records(),
+    "compare": lambda g: [
+        {k: v for k, v in row.items() if k != "seconds"}
+        for row in toporank.compare(g, workers=2, repeat=1).records()
+    ],
 }
 # Public callables that take no graph.
-NOT_GRAPH_FUNCTIONS = {"Graph"}
+NOT_GRAPH_FUNCTIONS = {"Graph", "OrderMetrics", "Schedule", "Comparison"}
 
 
 def _public_functions():

@@ -4,19 +4,29 @@ Kahn's algorithm over CSR arrays with selectable tie-breaks, run by a
 compiled core with the GIL released. Start with :func:`order`.
 """
 
+from ._compare import Comparison, compare
 from ._errors import CyclicGraphError, GraphInputError, InvalidOrderError
 from ._graph import Graph, as_graph
+from ._metrics import OrderMetrics, order_metrics
 from ._order import TIES, order, positions, verify_order
+from ._schedule import SCHEDULE_TIES, Schedule, schedule
 
 __all__ = [
+    "SCHEDULE_TIES",
     "TIES",
+    "Comparison",
     "CyclicGraphError",
     "Graph",
     "GraphInputError",
     "InvalidOrderError",
+    "OrderMetrics",
+    "Schedule",
     "as_graph",
+    "compare",
     "order",
+    "order_metrics",
     "positions",
+    "schedule",
     "verify_order",
 ]
 

@@ -1,5 +1,7 @@
 """Type stubs of the compiled core. Private: call the functions of ``toporank``."""
 
+from typing import Any
+
 import numpy as np
 
 __all__ = ["edges_to_csr", "kahn_order", "positions", "verify_order"]
@@ -19,3 +21,21 @@ def verify_order(
     indptr: np.ndarray, indices: np.ndarray, order: np.ndarray
 ) -> tuple[object, ...] | None: ...
 def positions(order: np.ndarray, n: int) -> np.ndarray | tuple[object, ...]: ...
+
+__all__ += ["bottom_levels", "list_schedule", "order_metrics"]
+
+def order_metrics(
+    indptr: np.ndarray, indices: np.ndarray, order: np.ndarray, rank: np.ndarray | None = None
+) -> tuple[Any, ...] | None: ...
+def list_schedule(
+    indptr: np.ndarray,
+    indices: np.ndarray,
+    durations: np.ndarray,
+    workers: int,
+    policy: str,
+    rank: np.ndarray | None = None,
+    seed: int = 0,
+) -> tuple[Any, Any]: ...
+def bottom_levels(
+    indptr: np.ndarray, indices: np.ndarray, durations: np.ndarray
+) -> tuple[Any, Any]: ...

@@ -22,6 +22,12 @@ pub enum Error {
     TooLarge { what: &'static str, count: usize, max: usize },
     /// A float key is NaN.
     NanKey { node: usize },
+    /// A task duration is negative, NaN or infinite (`value` as written).
+    InvalidDuration { node: usize, value: String },
+    /// The durations add up to more than the time type can hold.
+    DurationOverflow { total_of: usize },
+    /// A schedule needs at least one worker.
+    NoWorkers,
 }
 
 impl fmt::Display for Error {
@@ -49,6 +55,16 @@ impl fmt::Display for Error {
                 write!(f, "{what} = {count} exceeds {max}, the largest this index width can hold")
             }
             Error::NanKey { node } => write!(f, "key[{node}] is NaN; keys must be comparable"),
+            Error::InvalidDuration { node, value } => write!(
+                f,
+                "duration[{node}] = {value} is not a duration; durations must be finite and >= 0"
+            ),
+            Error::DurationOverflow { total_of } => write!(
+                f,
+                "the durations of the first {total_of} nodes already add up to more than \
+                 64-bit integers hold; pass float durations"
+            ),
+            Error::NoWorkers => write!(f, "workers = 0; a schedule needs at least one worker"),
         }
     }
 }

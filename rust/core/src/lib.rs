@@ -14,7 +14,9 @@ pub mod error;
 pub mod heap;
 pub mod index;
 pub mod kahn;
+pub mod metrics;
 pub mod rng;
+pub mod schedule;
 pub mod verify;
 
 pub use csr::Csr;

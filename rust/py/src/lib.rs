@@ -36,10 +36,14 @@ macro_rules! with_index_width {
 }
 
 mod common;
+mod metrics;
 mod order;
+mod schedule;
 
 #[pymodule]
 fn _core(m: &Bound<'_, PyModule>) -> PyResult<()> {
     order::register(m)?;
+    metrics::register(m)?;
+    schedule::register(m)?;
     Ok(())
 }
