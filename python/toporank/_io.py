@@ -420,7 +420,7 @@ def _read_fast(path: str, layout: _Layout, progress: bool) -> list[Any]:
             for batch in reader:
                 for k, name in enumerate(names):
                     chunks[k].append(batch.column(name))
-                position = min(stream.tell(), size) if hasattr(stream, "tell") else done
+                position = min(_position(stream, done), size)
                 bar.update(position - done)
                 done = position
     except (pa.ArrowInvalid, pa.ArrowNotImplementedError, StopIteration):
@@ -443,6 +443,14 @@ def _read_fast(path: str, layout: _Layout, progress: bool) -> list[Any]:
             raise _NeedsCarefulRead
         values.append(flat)
     return values
+
+
+def _position(stream: Any, fallback: int) -> int:
+    """Bytes consumed so far; compressed streams cannot tell, so the bar then stays put."""
+    try:
+        return int(stream.tell())
+    except OSError:
+        return fallback
 
 
 def _skip_comment_rows(row: Any) -> str:
