@@ -8,6 +8,8 @@ practice there): this test fails when a public function is added to
 from __future__ import annotations
 
 import inspect
+import os
+import tempfile
 
 import numpy as np
 import pytest
@@ -33,8 +35,18 @@ CALLS = {
     "as_graph": lambda g: toporank.as_graph(g).n,
     "order": lambda g: toporank.order(g, tie="priority").tolist(),
     "positions": lambda g: toporank.positions(toporank.order(g)).tolist(),
+    "read_graph": lambda g: _saved_and_read(g).indices.tolist(),
     "verify_order": lambda g: toporank.verify_order(g, toporank.order(g)),
 }
+
+
+def _saved_and_read(matrix):
+    with tempfile.TemporaryDirectory() as folder:
+        path = os.path.join(folder, "g.npz")
+        sp.save_npz(path, matrix)
+        return toporank.read_graph(path)
+
+
 # Public callables that take no graph.
 NOT_GRAPH_FUNCTIONS = {"Graph"}
 

@@ -306,7 +306,9 @@ def _sniff(
     rows = [(number, line, _split(line, delimiter)) for number, line in sample]
     named = any(isinstance(c, str) for c in columns)
     if header is None:
-        header = named or _looks_like_header(rows, columns)
+        # a column can tell a header only if it is numeric below it: not labels
+        telling = [c for c, r in zip(columns, roles, strict=True) if r == "number" or not labels]
+        header = named or _looks_like_header(rows, telling)
     if named and not header:
         raise GraphInputError(f"columns {list(columns)!r} name header columns, but header=False")
     positions: list[int] = []
