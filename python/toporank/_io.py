@@ -19,8 +19,9 @@ import re
 import shutil
 import sys
 import tempfile
+import threading
 import zipfile
-from collections.abc import Iterator, Sequence
+from collections.abc import Callable, Iterator, Sequence
 from dataclasses import dataclass
 from typing import IO, Any
 
@@ -35,7 +36,6 @@ FILE_FORMATS = ("text", "mtx", "npz", "npy")
 DELIMITERS = {"tab": "\t", "comma": ",", "space": " ", "whitespace": None}
 
 _SNIFF_LINES = 200
-_BLOCK_SIZE = 16 << 20
 _INTEGER = re.compile(r"[+-]?[0-9]+\Z")
 _SHOW_CHARS = 80
 
@@ -259,7 +259,14 @@ def _read_text(
 ) -> _Table:
     layout = _sniff(path, shown, delimiter, header, columns, roles, labels)
     try:
-        values = _read_fast(path, layout, progress)
+        # ids parse faster, and the CSR takes half the memory, as int32;
+        # ids beyond its range fail that read, and int64 is tried next
+        try:
+            values = _read_fast(path, layout, progress, narrow=True)
+        except _NeedsCarefulRead:
+            if "id" not in layout.kinds:
+                raise
+            values = _read_fast(path, layout, progress, narrow=False)
     except _NeedsCarefulRead:
         values = _read_careful(path, shown, layout)
     return _Table(values, layout.kinds, shown, layout.first_line)
@@ -387,16 +394,18 @@ class _NeedsCarefulRead(Exception):
     """The fast path met something it does not handle; the careful path decides."""
 
 
-def _read_fast(path: str, layout: _Layout, progress: bool) -> list[Any]:
+def _read_fast(path: str, layout: _Layout, progress: bool, narrow: bool) -> list[Any]:
     import pyarrow as pa
     import pyarrow.compute as pc
     import pyarrow.csv as pacsv
 
     names = [f"f{c}" for c in layout.columns]
-    types = {"id": pa.int64(), "label": pa.string(), "number": pa.float64()}
-    read_options = pacsv.ReadOptions(
-        skip_rows=layout.skip, autogenerate_column_names=True, block_size=_BLOCK_SIZE
-    )
+    types = {
+        "id": pa.int32() if narrow else pa.int64(),
+        "label": pa.string(),
+        "number": pa.float64(),
+    }
+    read_options = pacsv.ReadOptions(skip_rows=layout.skip, autogenerate_column_names=True)
     parse_options = pacsv.ParseOptions(
         delimiter=layout.delimiter or " ",
         quote_char='"' if layout.delimiter == "," else False,
@@ -410,23 +419,21 @@ def _read_fast(path: str, layout: _Layout, progress: bool) -> list[Any]:
     )
     if layout.width <= max(layout.columns):
         raise _NeedsCarefulRead
-    chunks: list[list[Any]] = [[] for _ in names]
     size = os.path.getsize(path)
-    try:
-        with (
-            pa.input_stream(path, compression="detect") as stream,
-            _bar(size, "reading", path, progress) as bar,
-        ):
-            reader = pacsv.open_csv(stream, read_options, parse_options, convert_options)
-            done = 0
-            for batch in reader:
-                for k, name in enumerate(names):
-                    chunks[k].append(batch.column(name))
-                position = min(_position(stream, done), size)
-                bar.update(position - done)
-                done = position
-    except (pa.ArrowInvalid, pa.ArrowNotImplementedError, StopIteration):
-        raise _NeedsCarefulRead from None
+    with open(path, "rb") as raw, _bar(size, "reading", path, progress) as bar:
+        counted = _CountingReader(raw)
+        source: Any = counted
+        if path.endswith(".gz"):
+            source = pa.CompressedInputStream(pa.PythonFile(counted, mode="r"), "gzip")
+        table = _in_background(
+            lambda: pacsv.read_csv(source, read_options, parse_options, convert_options),
+            lambda: bar.update(min(counted.done, size) - bar.n),
+        )
+    if isinstance(table, (pa.ArrowInvalid, pa.ArrowNotImplementedError)):
+        raise _NeedsCarefulRead
+    if isinstance(table, BaseException):
+        raise table
+    chunks = [table.column(name).chunks for name in names]
     values: list[Any] = []
     for kind, pieces in zip(layout.kinds, chunks, strict=True):
         column = pa.chunked_array(pieces, type=types[kind])
@@ -447,12 +454,49 @@ def _read_fast(path: str, layout: _Layout, progress: bool) -> list[Any]:
     return values
 
 
-def _position(stream: Any, fallback: int) -> int:
-    """Bytes consumed so far; compressed streams cannot tell, so the bar then stays put."""
-    try:
-        return int(stream.tell())
-    except OSError:
-        return fallback
+class _CountingReader(io.RawIOBase):
+    """A binary file that counts the bytes read from it, for the progress bar."""
+
+    def __init__(self, raw: IO[bytes]) -> None:
+        self.raw = raw
+        self.done = 0
+
+    def readable(self) -> bool:
+        return True
+
+    def readinto(self, buffer: Any) -> int:
+        count = self.raw.readinto(buffer)  # type: ignore[attr-defined]
+        self.done += count or 0
+        return count or 0
+
+    def read(self, size: int = -1) -> bytes:
+        data = self.raw.read(size)
+        self.done += len(data)
+        return data
+
+
+def _in_background(work: Callable[[], Any], tick: Callable[[], None]) -> Any:
+    """``work()``'s result (or the exception it raised), computed on a helper thread.
+
+    pyarrow's reader does not answer Ctrl-C while it parses; waiting on a
+    thread in short steps keeps this (main) thread able to raise
+    KeyboardInterrupt within a tenth of a second, and to move the bar.
+    """
+    outcome: list[Any] = []
+
+    def run() -> None:
+        try:
+            outcome.append(work())
+        except BaseException as exc:  # handed to the caller
+            outcome.append(exc)
+
+    worker = threading.Thread(target=run, name="toporank-reader", daemon=True)
+    worker.start()
+    while worker.is_alive():
+        worker.join(0.1)
+        tick()
+    tick()
+    return outcome[0]
 
 
 def _skip_comment_rows(row: Any) -> str:
