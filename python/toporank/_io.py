@@ -419,27 +419,26 @@ def _read_fast(path: str, layout: _Layout, progress: bool, narrow: bool) -> list
     )
     if layout.width <= max(layout.columns):
         raise _NeedsCarefulRead
-    size = os.path.getsize(path)
-    with open(path, "rb") as raw, _bar(size, "reading", path, progress) as bar:
-        counted = _CountingReader(raw)
-        source: Any = counted
-        if path.endswith(".gz"):
-            source = pa.CompressedInputStream(pa.PythonFile(counted, mode="r"), "gzip")
+    if _bar_shown(progress):
+        chunks = _read_streamed(path, names, (read_options, parse_options, convert_options))
+    else:
         table = _in_background(
-            lambda: pacsv.read_csv(source, read_options, parse_options, convert_options),
-            lambda: bar.update(min(counted.done, size) - bar.n),
+            lambda: pacsv.read_csv(path, read_options, parse_options, convert_options)
         )
-    if isinstance(table, (pa.ArrowInvalid, pa.ArrowNotImplementedError)):
-        raise _NeedsCarefulRead
-    if isinstance(table, BaseException):
-        raise table
-    chunks = [table.column(name).chunks for name in names]
+        if isinstance(table, (pa.ArrowInvalid, pa.ArrowNotImplementedError)):
+            raise _NeedsCarefulRead
+        if isinstance(table, BaseException):
+            raise table
+        chunks = [table.column(name).chunks for name in names]
     values: list[Any] = []
     for kind, pieces in zip(layout.kinds, chunks, strict=True):
         column = pa.chunked_array(pieces, type=types[kind])
         if column.null_count:
             raise _NeedsCarefulRead
         if kind == "label":
+            if column.nbytes >= 2**31 - 2**24:
+                # one array of more than 2 GiB of labels needs 64-bit offsets
+                column = column.cast(pa.large_string())
             array = column.combine_chunks()
             if len(array) and pc.min(pc.utf8_length(array)).as_py() == 0:
                 raise _NeedsCarefulRead
@@ -454,33 +453,34 @@ def _read_fast(path: str, layout: _Layout, progress: bool, narrow: bool) -> list
     return values
 
 
-class _CountingReader(io.RawIOBase):
-    """A binary file that counts the bytes read from it, for the progress bar."""
+def _read_streamed(path: str, names: list[str], options: tuple[Any, ...]) -> list[list[Any]]:
+    """Columns read block by block, moving the progress bar (used when it is on screen)."""
+    import pyarrow as pa
+    import pyarrow.csv as pacsv
 
-    def __init__(self, raw: IO[bytes]) -> None:
-        self.raw = raw
-        self.done = 0
+    chunks: list[list[Any]] = [[] for _ in names]
+    size = os.path.getsize(path)
+    try:
+        with (
+            pa.input_stream(path, compression="detect") as stream,
+            _bar(size, "reading", path, True) as bar,
+        ):
+            for batch in pacsv.open_csv(stream, *options):
+                for k, name in enumerate(names):
+                    chunks[k].append(batch.column(name))
+                with contextlib.suppress(OSError):  # compressed streams cannot tell
+                    bar.update(min(int(stream.tell()), size) - bar.n)
+    except (pa.ArrowInvalid, pa.ArrowNotImplementedError, StopIteration):
+        raise _NeedsCarefulRead from None
+    return chunks
 
-    def readable(self) -> bool:
-        return True
 
-    def readinto(self, buffer: Any) -> int:
-        count = self.raw.readinto(buffer)  # type: ignore[attr-defined]
-        self.done += count or 0
-        return count or 0
-
-    def read(self, size: int = -1) -> bytes:
-        data = self.raw.read(size)
-        self.done += len(data)
-        return data
-
-
-def _in_background(work: Callable[[], Any], tick: Callable[[], None]) -> Any:
+def _in_background(work: Callable[[], Any]) -> Any:
     """``work()``'s result (or the exception it raised), computed on a helper thread.
 
-    pyarrow's reader does not answer Ctrl-C while it parses; waiting on a
-    thread in short steps keeps this (main) thread able to raise
-    KeyboardInterrupt within a tenth of a second, and to move the bar.
+    pyarrow's multithreaded reader does not answer Ctrl-C while it parses;
+    waiting on a thread in short steps keeps this (main) thread able to
+    raise KeyboardInterrupt within a tenth of a second.
     """
     outcome: list[Any] = []
 
@@ -494,8 +494,6 @@ def _in_background(work: Callable[[], Any], tick: Callable[[], None]) -> Any:
     worker.start()
     while worker.is_alive():
         worker.join(0.1)
-        tick()
-    tick()
     return outcome[0]
 
 
@@ -569,20 +567,25 @@ def _intern(src: Any, dst: Any) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
     import pyarrow.compute as pc
 
     m = len(src)
-    both = pa.concat_arrays([src.cast(pa.large_string()), dst.cast(pa.large_string())])
-    encoded = pc.dictionary_encode(both)
-    codes = encoded.indices.to_numpy()
-    # dictionary_encode numbers values by first appearance in its input; the
-    # input held all sources before all targets, so renumber the codes in the
-    # row-by-row order (source, target, source, target, ...).
-    interleaved = np.empty(2 * m, dtype=codes.dtype)
-    interleaved[0::2] = codes[:m]
-    interleaved[1::2] = codes[m:]
-    renumbered = pc.dictionary_encode(pa.array(interleaved))
-    new_codes = renumbered.indices.to_numpy().astype(np.int64)
-    old_of_new = renumbered.dictionary
-    labels = encoded.dictionary.take(old_of_new).to_numpy(zero_copy_only=False)
-    return new_codes[0::2].copy(), new_codes[1::2].copy(), labels.astype(object, copy=False)
+    if src.type != dst.type:
+        src, dst = src.cast(pa.large_string()), dst.cast(pa.large_string())
+    # One hash pass over both columns gives a shared dictionary numbered by
+    # first appearance in "all sources, then all targets"; renumber it to
+    # the row-by-row order (source, target, source, ...) of Graph.from_pairs.
+    encoded = pc.dictionary_encode(pa.chunked_array([src, dst]))
+    src_codes = encoded.chunk(0).indices.to_numpy()
+    dst_codes = encoded.chunk(1).indices.to_numpy()
+    dictionary = encoded.chunk(1).dictionary
+    count = len(dictionary)
+    first_seen = np.full(count, 2 * m, dtype=np.int64)
+    np.minimum.at(first_seen, src_codes, np.arange(0, 2 * m, 2, dtype=np.int64))
+    np.minimum.at(first_seen, dst_codes, np.arange(1, 2 * m, 2, dtype=np.int64))
+    old_of_new = np.argsort(first_seen, kind="stable")
+    width = np.int32 if count <= np.iinfo(np.int32).max else np.int64
+    new_of_old = np.empty(count, dtype=width)
+    new_of_old[old_of_new] = np.arange(count, dtype=width)
+    labels = dictionary.take(pa.array(old_of_new)).to_numpy(zero_copy_only=False)
+    return new_of_old[src_codes], new_of_old[dst_codes], labels.astype(object, copy=False)
 
 
 # ---------------------------------------------------------------------------
@@ -820,11 +823,15 @@ def check_writable(path: str, inputs: Sequence[str]) -> None:
         raise GraphInputError(f"cannot write {path}: it is a folder")
 
 
+def _bar_shown(enabled: bool) -> bool:
+    return enabled and sys.stderr.isatty()
+
+
 @contextlib.contextmanager
 def _bar(total: int, verb: str, path: str, enabled: bool, unit: str = "B") -> Iterator[Any]:
     from tqdm import tqdm
 
-    show = enabled and sys.stderr.isatty()
+    show = _bar_shown(enabled)
     with tqdm(
         total=total,
         desc=f"{verb} {os.path.basename(path)}",

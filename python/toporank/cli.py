@@ -19,6 +19,7 @@ import json
 import os
 import resource
 import sys
+import threading
 import time
 from collections.abc import Callable, Sequence
 from typing import Any
@@ -58,7 +59,12 @@ def main(argv: Sequence[str] | None = None) -> int:
     try:
         return int(args.run(args))
     except KeyboardInterrupt:
+        # outputs in progress were removed as the interrupt unwound; leave
+        # at once rather than wait for a reader thread still parsing
         print("toporank: interrupted; no output was written", file=sys.stderr)
+        sys.stderr.flush()
+        if threading.active_count() > 1:
+            os._exit(EXIT_INTERRUPTED)
         return EXIT_INTERRUPTED
     except (GraphInputError, Unavailable) as exc:
         _error(str(exc))
