@@ -180,9 +180,10 @@ def test_key_file_drives_priority(tmp_path, capsys):
 
 
 def test_stdin_input(tmp_path):
-    result = _script("order", "-", "-q", input="# from a pipe\n2\t0\n0\t1\n")
+    result = _script("order", "-", input="# from a pipe\n2\t0\n0\t1\n")
     assert result.returncode == 0, result.stderr
     assert result.stdout.split() == ["2", "0", "1"]
+    assert result.stderr == ""  # no progress bar when stderr is not a terminal
 
 
 # ---------------------------------------------------------------------------

@@ -23,7 +23,7 @@ import numpy as np
 
 import toporank
 
-from ._io import atomic_output, read_graph, read_key
+from ._io import atomic_output, node_strings, read_graph, read_key
 
 JOURNAL = "Journal of Imaginary Results"
 FIRST_YEAR, LAST_YEAR, ISSUES, PAPERS_PER_ISSUE = 1990, 2024, 4, 22
@@ -142,8 +142,9 @@ def run(out: str, *, progress: bool = True) -> int:
     key = read_key(paths["years"], g)
     options = argparse.Namespace(tie="priority", descending=False, seed=None)
     ids, report = ordered(g, options, key, journal_on_cycle)
-    assert ids is not None
-    names = g.labels[ids]
+    if ids is None:  # not reached: partial and condense always give an order
+        raise RuntimeError("the demo's journal could not be ordered")
+    names = node_strings(g, ids)
     with atomic_output(paths["journal_order"]) as f:
         f.write("node,position,year\n")
         f.writelines(f"{p},{i},{years[p]}\n" for i, p in enumerate(names))
@@ -184,9 +185,11 @@ def run(out: str, *, progress: bool = True) -> int:
     m = read_graph(paths["imports"], columns=("imports", "module"), progress=progress)
     build = argparse.Namespace(tie="queue", descending=False, seed=None)
     build_ids, build_report = ordered(m, build, None, "partial")
-    assert build_ids is not None
+    if build_ids is None:  # not reached: partial always gives an order
+        raise RuntimeError("the demo's monorepo could not be ordered")
+    build_order = node_strings(m, build_ids)
     with atomic_output(paths["build_order"]) as f:
-        f.writelines(f"{module}\n" for module in m.labels[build_ids])
+        f.writelines(f"{module}\n" for module in build_order)
     write_json(
         paths["monorepo_summary"],
         {
@@ -202,8 +205,7 @@ def run(out: str, *, progress: bool = True) -> int:
     if not build_report["is_dag"]:
         print(f"  import cycle: {_cycle(build_report['witness_cycle'])}")
         print(
-            f"  {len(build_ids)} modules can be built before it: "
-            f"{', '.join(m.labels[build_ids[:5]])}, ..."
+            f"  {len(build_ids)} modules can be built before it: {', '.join(build_order[:5])}, ..."
         )
 
     print("\nwritten:")

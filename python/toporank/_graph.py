@@ -72,11 +72,12 @@ class Graph:
         """Map from label to node id (labelled graphs only)."""
         if self.labels is None:
             raise GraphInputError("this graph has integer node ids, not labels")
-        if self._label_index is None:
-            # built on first use: readers of large labelled files need not pay for it
-            index = {label: node for node, label in enumerate(self.labels.tolist())}
-            object.__setattr__(self, "_label_index", index)
-        return self._label_index
+        if self._label_index is not None:
+            return self._label_index
+        # built on first use: readers of large labelled files need not pay for it
+        index = {label: node for node, label in enumerate(self.labels.tolist())}
+        object.__setattr__(self, "_label_index", index)
+        return index
 
     def edge_input_positions(self) -> np.ndarray | None:
         """Input position of each stored edge, or ``None`` when stored order is input order.

@@ -194,6 +194,7 @@ class _Layout:
     columns: tuple[int, ...]
     kinds: tuple[str, ...]  # per column: "id", "label" or "number"
     width: int  # fields on the first data line
+    line_bytes: float  # mean length of the sampled data lines, for the progress bar
 
 
 @dataclass
@@ -347,7 +348,10 @@ def _sniff(
     kinds = tuple(
         _kind(role, labels, data, position) for role, position in zip(roles, positions, strict=True)
     )
-    return _Layout(delimiter, skipped, data[0][0], tuple(positions), kinds, len(data[0][2]))
+    line_bytes = sum(len(line.encode()) for _, line, _ in data) / len(data)
+    return _Layout(
+        delimiter, skipped, data[0][0], tuple(positions), kinds, len(data[0][2]), line_bytes
+    )
 
 
 def _looks_like_header(
@@ -420,7 +424,8 @@ def _read_fast(path: str, layout: _Layout, progress: bool, narrow: bool) -> list
     if layout.width <= max(layout.columns):
         raise _NeedsCarefulRead
     if _bar_shown(progress):
-        chunks = _read_streamed(path, names, (read_options, parse_options, convert_options))
+        options = (read_options, parse_options, convert_options)
+        chunks = _read_streamed(path, names, options, layout.line_bytes)
     else:
         table = _in_background(
             lambda: pacsv.read_csv(path, read_options, parse_options, convert_options)
@@ -453,8 +458,14 @@ def _read_fast(path: str, layout: _Layout, progress: bool, narrow: bool) -> list
     return values
 
 
-def _read_streamed(path: str, names: list[str], options: tuple[Any, ...]) -> list[list[Any]]:
-    """Columns read block by block, moving the progress bar (used when it is on screen)."""
+def _read_streamed(
+    path: str, names: list[str], options: tuple[Any, ...], line_bytes: float
+) -> list[list[Any]]:
+    """Columns read block by block, moving the progress bar (used when it is on screen).
+
+    The bar counts bytes as rows parsed times the sampled mean line length:
+    the stream's own position runs ahead, read by a prefetching thread.
+    """
     import pyarrow as pa
     import pyarrow.csv as pacsv
 
@@ -465,11 +476,15 @@ def _read_streamed(path: str, names: list[str], options: tuple[Any, ...]) -> lis
             pa.input_stream(path, compression="detect") as stream,
             _bar(size, "reading", path, True) as bar,
         ):
+            if path.endswith(".gz"):
+                bar.reset(total=None)  # the uncompressed size is unknown
+            rows = 0
             for batch in pacsv.open_csv(stream, *options):
                 for k, name in enumerate(names):
                     chunks[k].append(batch.column(name))
-                with contextlib.suppress(OSError):  # compressed streams cannot tell
-                    bar.update(min(int(stream.tell()), size) - bar.n)
+                rows += batch.num_rows
+                bar.update(min(int(rows * line_bytes), size) - bar.n)
+            bar.update(size - bar.n)
     except (pa.ArrowInvalid, pa.ArrowNotImplementedError, StopIteration):
         raise _NeedsCarefulRead from None
     return chunks

@@ -359,7 +359,8 @@ def ordered(
         else:
             if on_cycle == "cut":
                 report["cut_edges"] = _cut_report(g)["count"]
-            ids = np.asarray(toporank.order(plain, on_cycle=on_cycle, **tie_args))
+            tie_args["on_cycle"] = on_cycle
+            ids = np.asarray(toporank.order(plain, **tie_args))
     return ids, report
 
 
