@@ -108,6 +108,14 @@ def test_integer_header_is_detected(tmp_path):
     assert g.m == 2 and g.labels is None
 
 
+def test_byte_order_mark_and_crlf_are_taken_in_stride(tmp_path):
+    # Spreadsheet programs save a BOM and CRLF line ends (common practice).
+    path = tmp_path / "e.csv"
+    path.write_bytes("\ufeffa,b\r\nb,c\r\n".encode())
+    g = toporank.read_graph(str(path))
+    assert g.labels.tolist() == ["a", "b", "c"]
+
+
 def test_gzip_text(tmp_path):
     path = tmp_path / "e.tsv.gz"
     with gzip.open(path, "wt") as f:

@@ -229,8 +229,8 @@ def _local_copy(name: str) -> Iterator[tuple[str, str]]:
 
 def _open_text(path: str) -> IO[str]:
     if path.endswith(".gz"):
-        return io.TextIOWrapper(gzip.open(path, "rb"), encoding="utf-8", newline="")
-    return open(path, encoding="utf-8", newline="")
+        return io.TextIOWrapper(gzip.open(path, "rb"), encoding="utf-8-sig", newline="")
+    return open(path, encoding="utf-8-sig", newline="")
 
 
 def _split(line: str, delimiter: str | None) -> list[str]:
