@@ -91,6 +91,12 @@ def test_runs_of_spaces_and_mid_file_comments_take_the_careful_path(tmp_path):
     _same_csr(g, toporank.Graph.from_edges(np.array([1, 2, 3]), np.array([2, 3, 4])))
 
 
+@pytest.mark.parametrize("given", ["\t", "tab", "\\t"])
+def test_delimiter_spellings(tmp_path, given):
+    path = _write(tmp_path / "e.txt", "0\t1\n1\t2\n")
+    _same_csr(toporank.read_graph(path, delimiter=given), toporank.Graph.from_edges([0, 1], [1, 2]))
+
+
 def test_comment_row_shaped_like_data_is_skipped(tmp_path):
     text = "0\t1\n#\tnote\n1\t2\n"
     g = toporank.read_graph(_write(tmp_path / "edges.tsv", text))

@@ -33,7 +33,7 @@ from ._graph import Graph
 __all__ = ["GraphFileError", "read_graph"]
 
 FILE_FORMATS = ("text", "mtx", "npz", "npy")
-DELIMITERS = {"tab": "\t", "comma": ",", "space": " ", "whitespace": None}
+DELIMITERS = {"tab": "\t", "\\t": "\t", "comma": ",", "space": " ", "whitespace": None}
 
 _SNIFF_LINES = 200
 _INTEGER = re.compile(r"[+-]?[0-9]+\Z")
