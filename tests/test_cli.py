@@ -16,6 +16,7 @@ import time
 
 import numpy as np
 import pytest
+
 import toporank
 from toporank.cli import main
 

@@ -16,6 +16,7 @@ from types import SimpleNamespace
 import networkx as nx
 import numpy as np
 import pytest
+
 import toporank
 from toporank.cli import main
 

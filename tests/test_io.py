@@ -15,10 +15,11 @@ import numpy as np
 import pytest
 import scipy.io
 import scipy.sparse as sp
-import toporank
-from graphs import edge_lists
 from hypothesis import given, settings
 from hypothesis import strategies as st
+
+import toporank
+from graphs import edge_lists
 from toporank._io import atomic_output, read_key, read_nodes
 
 ROUND_TRIPS = settings(max_examples=25, deadline=None)
