@@ -11,6 +11,7 @@ reports against networkx directly.
 from __future__ import annotations
 
 import json
+import os
 from types import SimpleNamespace
 
 import networkx as nx
@@ -144,3 +145,33 @@ def test_levels_column_uses_the_level_function(tmp_path, capsys, monkeypatch):
             default=0,
         )
         assert int(level) == longest
+
+
+def test_compare_prints_the_table_and_writes_the_plot_whole(tmp_path, capsys, monkeypatch):
+    calls = []
+
+    class Comparison:
+        def __str__(self):
+            return "policy  ready peak\nqueue   2"
+
+        def plot(self, path):
+            calls.append(path)
+            with open(path, "w") as f:
+                f.write("png")
+
+    def compare(graph, ties=("queue",), *, key=None, descending=False, workers=None):
+        calls.append((toporank.as_graph(graph).m, tuple(ties), workers))
+        return Comparison()
+
+    if hasattr(toporank, "compare"):
+        pytest.skip("the real toporank.compare is tested with it")
+    monkeypatch.setattr(toporank, "compare", compare, raising=False)
+    path = _tsv(tmp_path / "e.tsv", [(0, 1), (0, 2)])
+    plot = tmp_path / "cmp.png"
+    status = main(["compare", path, "--ties", "queue,stack", "--workers", "2", "--plot", str(plot)])
+    out, err = capsys.readouterr()
+    assert status == 0, err
+    assert out.startswith("policy  ready peak")
+    assert calls[0] == (2, ("queue", "stack"), 2)
+    assert plot.read_text() == "png" and calls[1] != str(plot)  # drawn elsewhere, then renamed
+    assert sorted(os.listdir(tmp_path)) == ["cmp.png", "e.tsv"]

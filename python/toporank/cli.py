@@ -69,6 +69,10 @@ def main(argv: Sequence[str] | None = None) -> int:
     except (GraphInputError, Unavailable) as exc:
         _error(str(exc))
         return EXIT_BAD_INPUT
+    except CyclicGraphError as exc:
+        # from a step that needs a DAG (levels, a comparison): a finding, not bad input
+        _error(f"{args.file}: {exc}; see `toporank cycles {args.file}`")
+        return EXIT_FOUND
     except BrokenPipeError:
         # the reader of stdout went away (e.g. `| head`): stop quietly
         with contextlib.suppress(OSError):
@@ -176,9 +180,16 @@ def _parser() -> argparse.ArgumentParser:
 
     compare = commands.add_parser("compare", help="compare the orders of the tie-break policies")
     _input_options(compare)
-    compare.add_argument("--ties", metavar="LIST", help=f"comma-separated, from {toporank.TIES}")
+    compare.add_argument(
+        "--ties",
+        metavar="LIST",
+        help="comma-separated policies (default: all that toporank.compare knows)",
+    )
     compare.add_argument("--key", metavar="FILE", help="node,value file for the priority policy")
-    compare.add_argument("--workers", type=int, metavar="N", help="threads to use")
+    compare.add_argument("--descending", action="store_true", help="larger keys first (with --key)")
+    compare.add_argument(
+        "--workers", type=int, metavar="N", help="also schedule each order on N workers"
+    )
     compare.add_argument("--plot", metavar="PNG", help="also draw the comparison here")
     compare.set_defaults(run=run_compare)
 
@@ -662,6 +673,8 @@ def run_compare(args: argparse.Namespace) -> int:
         options["ties"] = tuple(t.strip() for t in args.ties.split(",") if t.strip())
     if args.key:
         options["key"] = read_key(args.key, g, progress=not args.quiet)
+    if args.descending:
+        options["descending"] = True
     if args.workers is not None:
         options["workers"] = args.workers
     result = compare(g, **options)
@@ -673,7 +686,10 @@ def run_compare(args: argparse.Namespace) -> int:
         root, ending = os.path.splitext(args.plot)
         temporary = f"{root}.partial{os.getpid()}{ending}"
         try:
-            plot(temporary)
+            try:
+                plot(temporary)
+            except ImportError as exc:
+                raise Unavailable(f"--plot: {exc}") from None
             os.replace(temporary, args.plot)
         finally:
             with contextlib.suppress(OSError):
