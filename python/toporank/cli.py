@@ -545,6 +545,7 @@ def _components_report(g: Graph, with_witnesses: bool, limit: int | None = None)
     listed = []
     for component in cyclic[:limit]:
         cycle = witness(plain, through=int(first_node[component]))
+        cycle = [] if cycle is None else cycle
         listed.append(
             {
                 "component": int(component),
