@@ -476,15 +476,18 @@ def _read_streamed(
             pa.input_stream(path, compression="detect") as stream,
             _bar(size, "reading", path, True) as bar,
         ):
-            if path.endswith(".gz"):
-                bar.reset(total=None)  # the uncompressed size is unknown
+            # the uncompressed size of a .gz is unknown: count bytes without a total
+            total = None if path.endswith(".gz") else size
+            bar.reset(total=total)
             rows = 0
             for batch in pacsv.open_csv(stream, *options):
                 for k, name in enumerate(names):
                     chunks[k].append(batch.column(name))
                 rows += batch.num_rows
-                bar.update(min(int(rows * line_bytes), size) - bar.n)
-            bar.update(size - bar.n)
+                done = int(rows * line_bytes)
+                bar.update((done if total is None else min(done, total)) - bar.n)
+            if total is not None:
+                bar.update(total - bar.n)
     except (pa.ArrowInvalid, pa.ArrowNotImplementedError, StopIteration):
         raise _NeedsCarefulRead from None
     return chunks
