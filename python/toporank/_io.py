@@ -470,15 +470,13 @@ def _read_streamed(
     import pyarrow.csv as pacsv
 
     chunks: list[list[Any]] = [[] for _ in names]
-    size = os.path.getsize(path)
+    # the uncompressed size of a .gz is unknown: count bytes without a total
+    total = None if path.endswith(".gz") else os.path.getsize(path)
     try:
         with (
             pa.input_stream(path, compression="detect") as stream,
-            _bar(size, "reading", path, True) as bar,
+            _bar(total, "reading", path, True) as bar,
         ):
-            # the uncompressed size of a .gz is unknown: count bytes without a total
-            total = None if path.endswith(".gz") else size
-            bar.reset(total=total)
             rows = 0
             for batch in pacsv.open_csv(stream, *options):
                 for k, name in enumerate(names):
@@ -846,7 +844,7 @@ def _bar_shown(enabled: bool) -> bool:
 
 
 @contextlib.contextmanager
-def _bar(total: int, verb: str, path: str, enabled: bool, unit: str = "B") -> Iterator[Any]:
+def _bar(total: int | None, verb: str, path: str, enabled: bool, unit: str = "B") -> Iterator[Any]:
     from tqdm import tqdm
 
     show = _bar_shown(enabled)

@@ -56,6 +56,8 @@ def main(argv: Sequence[str] | None = None) -> int:
     """Return the exit status of the ``toporank`` command run with ``argv`` (default: sys.argv)."""
     parser = _parser()
     args = parser.parse_args(argv)
+    if getattr(args, "output", None) == "-":
+        args.output = None  # "-o -" is standard output, as "-" is standard input
     try:
         return int(args.run(args))
     except KeyboardInterrupt:
