@@ -380,8 +380,17 @@ def test_demo_writes_its_outputs_and_reports_the_loops(tmp_path):
     index = {p: i for i, p in enumerate(emitted)}
     src, dst = citations._edges
     labels = citations.labels
+    # papers of one invented citation ring may come in any order among themselves
+    # (--on-cycle condense keeps them together); every other citation goes forward
+    from toporank._demo import LOOPS, paper_id
+
+    rings = {
+        paper_id(year, issue, k): ring
+        for ring, (year, issue, members) in enumerate(LOOPS)
+        for k in members
+    }
     for u, v in zip(labels[src], labels[dst], strict=True):
-        if u in index and v in index:
+        if u in index and v in index and not (u in rings and rings[u] == rings.get(v)):
             assert index[u] < index[v]
     summary = json.loads((folder / "monorepo-summary.json").read_text())
     assert set(summary["cycles"]["witness_cycle"]) == {

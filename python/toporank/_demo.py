@@ -94,6 +94,16 @@ def monorepo() -> list[tuple[str, str]]:
     return [(module, imported) for module, imports in MONOREPO.items() for imported in imports]
 
 
+def _loops(g: toporank.Graph) -> list[list[object]]:
+    """One witness cycle per strongly connected component, when this version can find them."""
+    from .cli import _components_report
+
+    if not (hasattr(toporank, "components") and hasattr(toporank, "cycle_witness")):
+        return []
+    report = _components_report(g, with_witnesses=True)
+    return [item["cycle"] for item in report["components"]]
+
+
 def _write_tsv(path: str, comment: str, header: tuple[str, str], rows: Any) -> None:
     with atomic_output(path) as f:
         f.write(f"# {comment}\n")
@@ -109,7 +119,7 @@ def _write_csv(path: str, header: tuple[str, str], rows: Any) -> None:
 
 def run(out: str, *, progress: bool = True) -> int:
     """Write the invented data into ``out``, order them, print a report; return the exit status."""
-    from .cli import _cycle, ordered, write_json
+    from .cli import _cut_report, _cycle, ordered, write_json
 
     started = time.perf_counter()
     os.makedirs(out, exist_ok=True)
@@ -165,12 +175,13 @@ def run(out: str, *, progress: bool = True) -> int:
     if report["is_dag"]:
         print("  no citation loops")
     else:
-        print(f"  not a DAG: citation loop {_cycle(report['witness_cycle'])}")
-        if "cyclic_components" in report:
-            print(
-                f"  {report['cyclic_components']} groups of papers citing each other in a loop, "
-                f"sizes {report['component_sizes']}"
-            )
+        loops = _loops(g)
+        if loops:
+            print(f"  not a DAG: {len(loops)} citation loops among papers of one issue:")
+            for loop in loops:
+                print(f"    {_cycle(loop)}")
+        else:
+            print(f"  not a DAG: citation loop {_cycle(report['witness_cycle'])}")
         if journal_on_cycle == "partial":
             print(
                 f"  {report['blocked_behind_cycles']} papers sit on or after a loop; the "
@@ -207,6 +218,12 @@ def run(out: str, *, progress: bool = True) -> int:
         print(
             f"  {len(build_ids)} modules can be built before it: {', '.join(build_order[:5])}, ..."
         )
+        if hasattr(toporank, "cut_cycles"):
+            cut = _cut_report(m)
+            removed = ", ".join(
+                f"{u} -> {v}" for u, v in zip(cut["source"], cut["target"], strict=True)
+            )
+            print(f"  removing {removed} breaks the cycle (--on-cycle cut)")
 
     print("\nwritten:")
     for path in paths.values():
