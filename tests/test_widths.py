@@ -8,6 +8,8 @@ practice there): this test fails when a public function is added to
 from __future__ import annotations
 
 import inspect
+import os
+import tempfile
 
 import numpy as np
 import pytest
@@ -33,6 +35,7 @@ CALLS = {
     "as_graph": lambda g: toporank.as_graph(g).n,
     "order": lambda g: toporank.order(g, tie="priority").tolist(),
     "positions": lambda g: toporank.positions(toporank.order(g)).tolist(),
+    "read_graph": lambda g: _saved_and_read(g).indices.tolist(),
     "verify_order": lambda g: toporank.verify_order(g, toporank.order(g)),
     "order_metrics": lambda g: dict(
         toporank.order_metrics(g, toporank.order(g), key=np.arange(N)[::-1])
@@ -43,6 +46,15 @@ CALLS = {
         for row in toporank.compare(g, workers=2, repeat=1).records()
     ],
 }
+
+
+def _saved_and_read(matrix):
+    with tempfile.TemporaryDirectory() as folder:
+        path = os.path.join(folder, "g.npz")
+        sp.save_npz(path, matrix)
+        return toporank.read_graph(path)
+
+
 # Public callables that take no graph.
 NOT_GRAPH_FUNCTIONS = {"Graph", "OrderMetrics", "Schedule", "Comparison"}
 

@@ -7,6 +7,7 @@ compiled core with the GIL released. Start with :func:`order`.
 from ._compare import Comparison, compare
 from ._errors import CyclicGraphError, GraphInputError, InvalidOrderError
 from ._graph import Graph, as_graph
+from ._io import GraphFileError, read_graph
 from ._metrics import OrderMetrics, order_metrics
 from ._order import TIES, order, positions, verify_order
 from ._schedule import SCHEDULE_TIES, Schedule, schedule
@@ -17,6 +18,7 @@ __all__ = [
     "Comparison",
     "CyclicGraphError",
     "Graph",
+    "GraphFileError",
     "GraphInputError",
     "InvalidOrderError",
     "OrderMetrics",
@@ -26,6 +28,7 @@ __all__ = [
     "order",
     "order_metrics",
     "positions",
+    "read_graph",
     "schedule",
     "verify_order",
 ]

@@ -70,9 +70,14 @@ class Graph:
     @property
     def label_index(self) -> dict[Any, int]:
         """Map from label to node id (labelled graphs only)."""
-        if self._label_index is None:
+        if self.labels is None:
             raise GraphInputError("this graph has integer node ids, not labels")
-        return self._label_index
+        if self._label_index is not None:
+            return self._label_index
+        # built on first use: readers of large labelled files need not pay for it
+        index = {label: node for node, label in enumerate(self.labels.tolist())}
+        object.__setattr__(self, "_label_index", index)
+        return index
 
     def edge_input_positions(self) -> np.ndarray | None:
         """Input position of each stored edge, or ``None`` when stored order is input order.
@@ -119,6 +124,18 @@ class Graph:
         src, dst = _same_width(src, dst, max(n, len(src)))
         indptr, indices, _ = _core.edges_to_csr(src, dst, n, False)
         return cls(indptr, indices, _edges=(src, dst))
+
+    @classmethod
+    def from_labelled_edges(cls, src: Any, dst: Any, labels: Any) -> Graph:
+        """A graph from integer edge arrays over nodes named ``labels[0], labels[1], ...``.
+
+        Labels must be distinct; results then speak labels, as for :meth:`from_pairs`.
+        """
+        labels = np.asarray(labels, dtype=object)
+        if labels.ndim != 1:
+            raise GraphInputError(f"labels must be 1-D, got shape {labels.shape}")
+        plain = cls.from_edges(src, dst, len(labels))
+        return cls(plain.indptr, plain.indices, labels, None, plain._edges)
 
     @classmethod
     def from_pairs(cls, pairs: Iterable[tuple[Hashable, Hashable]]) -> Graph:

@@ -1,0 +1,239 @@
+"""``toporank demo``: invented data sets, generated deterministically, and a short report.
+
+Two invented scenarios:
+
+- the *Journal of Imaginary Results*, 1990-2024, four issues a year: each
+  paper cites older papers, and a few papers of the same issue cite each
+  other (companion papers), which makes citation loops;
+- the *orbit* monorepo: modules and the modules they import, with one
+  import cycle in its billing package.
+
+The demo writes them as ordinary files and then runs the same readers and
+writers as the ``toporank`` command on those files.
+"""
+
+from __future__ import annotations
+
+import argparse
+import os
+import time
+from typing import Any
+
+import numpy as np
+
+import toporank
+
+from ._io import atomic_output, node_strings, read_graph, read_key
+
+JOURNAL = "Journal of Imaginary Results"
+FIRST_YEAR, LAST_YEAR, ISSUES, PAPERS_PER_ISSUE = 1990, 2024, 4, 22
+# (year, issue, papers citing each other in a ring) — the invented citation loops
+LOOPS = ((1997, 3, (4, 9)), (2006, 1, (2, 15, 7)), (2019, 4, (11, 3)))
+
+# module -> modules it imports; billing/invoice, billing/tax and billing/ledger import in a ring
+MONOREPO: dict[str, tuple[str, ...]] = {
+    "core/log": (),
+    "core/config": ("core/log",),
+    "core/errors": (),
+    "core/clock": ("core/errors",),
+    "util/text": ("core/errors",),
+    "util/retry": ("core/clock", "core/log"),
+    "storage/blob": ("core/config", "core/log", "util/retry"),
+    "storage/sql": ("core/config", "core/log", "util/retry"),
+    "storage/cache": ("storage/blob", "core/clock"),
+    "net/http": ("core/config", "util/retry", "util/text"),
+    "net/rpc": ("net/http", "core/errors"),
+    "auth/tokens": ("core/clock", "storage/cache"),
+    "auth/users": ("storage/sql", "auth/tokens", "util/text"),
+    "billing/tax": ("billing/ledger", "util/text"),
+    "billing/ledger": ("storage/sql", "billing/invoice"),
+    "billing/invoice": ("auth/users", "billing/tax"),
+    "billing/reports": ("billing/invoice", "billing/ledger", "storage/blob"),
+    "search/index": ("storage/blob", "util/text"),
+    "search/query": ("search/index", "net/rpc"),
+    "web/pages": ("net/http", "auth/users", "search/query"),
+    "web/api": ("net/rpc", "auth/users", "billing/reports"),
+    "web/admin": ("web/api", "web/pages"),
+    "tools/migrate": ("storage/sql", "core/config"),
+    "tools/lint": ("util/text",),
+    "app/server": ("web/api", "web/pages", "web/admin", "tools/migrate"),
+}
+
+
+def paper_id(year: int, issue: int, number: int) -> str:
+    """The invented journal's identifier of a paper."""
+    return f"JIR-{year}-{issue}-{number:02d}"
+
+
+def journal(seed: int = 7) -> tuple[list[tuple[str, str]], dict[str, int]]:
+    """Citation edges ``(cited, citing)`` of the invented journal, and each paper's year."""
+    rng = np.random.default_rng(seed)
+    papers: list[tuple[str, int]] = []
+    for year in range(FIRST_YEAR, LAST_YEAR + 1):
+        for issue in range(1, ISSUES + 1):
+            for number in range(1, PAPERS_PER_ISSUE + 1):
+                papers.append((paper_id(year, issue, number), year))
+    per_issue = PAPERS_PER_ISSUE
+    edges: list[tuple[str, str]] = []
+    for t in range(per_issue, len(papers)):
+        earlier = t - t % per_issue  # papers of earlier issues only
+        count = int(rng.integers(1, 9))
+        # recent work is cited more: draw the age with a bias toward small values
+        ages = (earlier * rng.random(count) ** 3).astype(np.int64)
+        for cited in sorted(set((earlier - 1 - ages).tolist())):
+            edges.append((papers[cited][0], papers[t][0]))
+    for year, issue, ring in LOOPS:
+        ids = [paper_id(year, issue, number) for number in ring]
+        for k, cited in enumerate(ids):
+            edges.append((cited, ids[(k + 1) % len(ids)]))
+    return edges, dict(papers)
+
+
+def monorepo() -> list[tuple[str, str]]:
+    """Import edges ``(module, imported module)`` of the invented monorepo."""
+    return [(module, imported) for module, imports in MONOREPO.items() for imported in imports]
+
+
+def _loops(g: toporank.Graph) -> list[list[object]]:
+    """One witness cycle per strongly connected component, when this version can find them."""
+    from .cli import _components_report
+
+    if not (hasattr(toporank, "components") and hasattr(toporank, "cycle_witness")):
+        return []
+    report = _components_report(g, with_witnesses=True)
+    return [item["cycle"] for item in report["components"]]
+
+
+def _write_tsv(path: str, comment: str, header: tuple[str, str], rows: Any) -> None:
+    with atomic_output(path) as f:
+        f.write(f"# {comment}\n")
+        f.write("\t".join(header) + "\n")
+        f.writelines(f"{a}\t{b}\n" for a, b in rows)
+
+
+def _write_csv(path: str, header: tuple[str, str], rows: Any) -> None:
+    with atomic_output(path) as f:
+        f.write(",".join(header) + "\n")
+        f.writelines(f"{a},{b}\n" for a, b in rows)
+
+
+def run(out: str, *, progress: bool = True) -> int:
+    """Write the invented data into ``out``, order them, print a report; return the exit status."""
+    from .cli import _cut_report, _cycle, ordered, write_json
+
+    started = time.perf_counter()
+    os.makedirs(out, exist_ok=True)
+    citations, years = journal()
+    paths = {
+        "citations": os.path.join(out, "journal-citations.tsv"),
+        "years": os.path.join(out, "journal-years.tsv"),
+        "imports": os.path.join(out, "monorepo-imports.csv"),
+        "journal_order": os.path.join(out, "journal-order.csv"),
+        "journal_summary": os.path.join(out, "journal-summary.json"),
+        "build_order": os.path.join(out, "monorepo-build-order.txt"),
+        "monorepo_summary": os.path.join(out, "monorepo-summary.json"),
+    }
+    _write_tsv(
+        paths["citations"],
+        f"{JOURNAL}: invented citations, generated by toporank demo",
+        ("cited", "citing"),
+        citations,
+    )
+    _write_tsv(
+        paths["years"],
+        f"{JOURNAL}: year of each invented paper",
+        ("paper", "year"),
+        sorted(years.items()),
+    )
+    _write_csv(paths["imports"], ("module", "imports"), monorepo())
+
+    journal_on_cycle = "condense" if hasattr(toporank, "condense") else "partial"
+    g = read_graph(paths["citations"], columns=("cited", "citing"), progress=progress)
+    key = read_key(paths["years"], g)
+    options = argparse.Namespace(tie="priority", descending=False, seed=None)
+    ids, report = ordered(g, options, key, journal_on_cycle)
+    if ids is None:  # not reached: partial and condense always give an order
+        raise RuntimeError("the demo's journal could not be ordered")
+    names = node_strings(g, ids)
+    with atomic_output(paths["journal_order"]) as f:
+        f.write("node,position,year\n")
+        f.writelines(f"{p},{i},{years[p]}\n" for i, p in enumerate(names))
+    write_json(
+        paths["journal_summary"],
+        {
+            "input": paths["citations"],
+            "nodes": g.n,
+            "edges": g.m,
+            "on_cycle": journal_on_cycle,
+            "ordered": len(ids),
+            "cycles": report,
+        },
+    )
+
+    print(f"toporank demo: invented data and results in {out}/\n")
+    print(f"{JOURNAL} ({FIRST_YEAR}-{LAST_YEAR}, invented): {g.n} papers, {g.m} citations")
+    if report["is_dag"]:
+        print("  no citation loops")
+    else:
+        loops = _loops(g)
+        if loops:
+            print(f"  not a DAG: {len(loops)} citation loops among papers of one issue:")
+            for loop in loops:
+                print(f"    {_cycle(loop)}")
+        else:
+            print(f"  not a DAG: citation loop {_cycle(report['witness_cycle'])}")
+        if journal_on_cycle == "partial":
+            print(
+                f"  {report['blocked_behind_cycles']} papers sit on or after a loop; the "
+                f"{len(ids)} before them are ordered (--on-cycle partial)"
+            )
+        else:
+            print(f"  all {len(ids)} papers ordered, each loop kept together (--on-cycle condense)")
+    first = ", ".join(f"{p} ({years[p]})" for p in names[:4])
+    print(f"  reading order, oldest first (--tie priority by year): {first}, ...")
+
+    edges = monorepo()
+    m = read_graph(paths["imports"], columns=("imports", "module"), progress=progress)
+    build = argparse.Namespace(tie="queue", descending=False, seed=None)
+    build_ids, build_report = ordered(m, build, None, "partial")
+    if build_ids is None:  # not reached: partial always gives an order
+        raise RuntimeError("the demo's monorepo could not be ordered")
+    build_order = node_strings(m, build_ids)
+    with atomic_output(paths["build_order"]) as f:
+        f.writelines(f"{module}\n" for module in build_order)
+    write_json(
+        paths["monorepo_summary"],
+        {
+            "input": paths["imports"],
+            "nodes": m.n,
+            "edges": m.m,
+            "on_cycle": "partial",
+            "ordered": len(build_ids),
+            "cycles": build_report,
+        },
+    )
+    print(f"\norbit monorepo (invented): {m.n} modules, {len(edges)} imports")
+    if not build_report["is_dag"]:
+        print(f"  import cycle: {_cycle(build_report['witness_cycle'])}")
+        print(
+            f"  {len(build_ids)} modules can be built before it: {', '.join(build_order[:5])}, ..."
+        )
+        if hasattr(toporank, "cut_cycles"):
+            cut = _cut_report(m)
+            removed = ", ".join(
+                f"{u} -> {v}" for u, v in zip(cut["source"], cut["target"], strict=True)
+            )
+            print(f"  removing {removed} breaks the cycle (--on-cycle cut)")
+
+    print("\nwritten:")
+    for path in paths.values():
+        print(f"  {path}")
+    print("\nnext, from the shell:")
+    print(
+        f"  toporank order {paths['citations']} --columns cited,citing --tie priority "
+        f"--key {paths['years']} --on-cycle {journal_on_cycle} -o order.csv --summary summary.json"
+    )
+    print(f"  toporank order {paths['imports']} --columns imports,module")
+    print(f"  toporank cycles {paths['imports']} --columns imports,module --cut")
+    print(f"\ndone in {time.perf_counter() - started:.2f} s")
+    return 0
