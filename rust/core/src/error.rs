@@ -35,6 +35,14 @@ pub enum Error {
     },
     /// A float key is NaN.
     NanKey { node: usize },
+    /// A weight is negative, infinite or NaN (shown as formatted).
+    BadWeight {
+        what: &'static str,
+        position: usize,
+        value: String,
+    },
+    /// The worker threads could not be started.
+    ThreadPool { threads: usize, reason: String },
 }
 
 impl fmt::Display for Error {
@@ -74,6 +82,17 @@ impl fmt::Display for Error {
                 )
             }
             Error::NanKey { node } => write!(f, "key[{node}] is NaN; keys must be comparable"),
+            Error::BadWeight {
+                what,
+                position,
+                value,
+            } => write!(
+                f,
+                "{what}[{position}] = {value}; weights must be finite and non-negative"
+            ),
+            Error::ThreadPool { threads, reason } => {
+                write!(f, "could not start {threads} worker threads: {reason}")
+            }
         }
     }
 }

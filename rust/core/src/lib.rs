@@ -8,12 +8,17 @@
 //! Every failure that input can cause is reported as an [`Error`]; no
 //! function here panics on user data.
 
+pub mod critical;
 pub mod csr;
 pub mod edges;
 pub mod error;
 pub mod index;
 pub mod kahn;
+pub mod levels;
+pub mod paths;
+pub mod pool;
 pub mod rng;
+pub mod sweep;
 pub mod verify;
 
 pub use csr::Csr;
