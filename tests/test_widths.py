@@ -34,9 +34,13 @@ CALLS = {
     "order": lambda g: toporank.order(g, tie="priority").tolist(),
     "positions": lambda g: toporank.positions(toporank.order(g)).tolist(),
     "verify_order": lambda g: toporank.verify_order(g, toporank.order(g)),
+    "levels": lambda g: [a.tolist() for a in toporank.levels(g, grouped=True, threads=2)],
+    "heights": lambda g: toporank.heights(g, threads=2).tolist(),
+    "critical_path": lambda g: toporank.critical_path(g, edge_weight="data").path.tolist(),
+    "path_counts": lambda g: toporank.path_counts(g).exact_through_edge.tolist(),
 }
 # Public callables that take no graph.
-NOT_GRAPH_FUNCTIONS = {"Graph"}
+NOT_GRAPH_FUNCTIONS = {"Graph", "CriticalPath", "PathCounts"}
 
 
 def _public_functions():

@@ -39,9 +39,11 @@ macro_rules! with_index_width {
 
 mod common;
 mod order;
+mod sweeps;
 
 #[pymodule]
 fn _core(m: &Bound<'_, PyModule>) -> PyResult<()> {
     order::register(m)?;
+    sweeps::register(m)?;
     Ok(())
 }
