@@ -9,12 +9,11 @@ import networkx as nx
 import numpy as np
 import pytest
 import scipy.sparse as sp
+import toporank
 from graphs import edge_lists, to_networkx
 from hypothesis import given
-
-import toporank
-from toporank._synthetic import citation_dag
 from toporank import CyclicGraphError, GraphInputError
+from toporank._synthetic import citation_dag
 
 
 @given(edge_lists(acyclic=True))
