@@ -13,6 +13,7 @@ label pairs, the ``.tocoo()`` order of other sparse formats.
 
 from __future__ import annotations
 
+import math
 import os
 from dataclasses import dataclass, field
 from functools import cached_property
@@ -412,8 +413,10 @@ class PathCounts:
 
     @property
     def log_total(self) -> float:
-        """Natural log of ``total``, always finite."""
-        return self._logs[3] if self._logs else float(np.log(self.total))
+        """Natural log of ``total``, finite except ``-inf`` for a graph without nodes."""
+        if self._logs:
+            return self._logs[3]
+        return -math.inf if self.total == 0 else math.log(self.total)
 
     @property
     def through_node(self) -> np.ndarray:
@@ -423,11 +426,15 @@ class PathCounts:
     @property
     def edge_share(self) -> np.ndarray:
         """Per edge: the share of all source-to-sink paths using it, in (0, 1], always finite."""
+        if math.isfinite(self.total):
+            return self.through_edge / self.total
         return np.exp(self.log_through_edge - self.log_total)
 
     @property
     def node_share(self) -> np.ndarray:
         """Per node id: the share of all source-to-sink paths through it, in (0, 1]."""
+        if math.isfinite(self.total):
+            return self.through_node / self.total
         return np.exp(self.log_from_sources + self.log_to_sinks - self.log_total)
 
 
