@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import itertools
+import math
 
 import networkx as nx
 import numpy as np
@@ -13,6 +14,7 @@ from graphs import edge_lists, to_networkx
 from hypothesis import given
 from hypothesis import strategies as st
 from toporank import CyclicGraphError, GraphInputError
+from toporank._synthetic import citation_dag
 
 
 def _weighted_networkx(src, dst, n, lag, duration=None):
@@ -149,3 +151,19 @@ def test_bad_weights_are_named():
         toporank.critical_path(pairs, edge_weight=["x", "y"])
     with pytest.raises(CyclicGraphError):
         toporank.critical_path([("a", "b"), ("b", "a")])
+
+
+def test_one_and_two_threads_agree_bit_for_bit():
+    # Wide enough that levels are shared among workers.
+    src, dst, _ = citation_dag(30_000, 5, seed=4)
+    rng = np.random.default_rng(0)
+    lag = rng.random(len(src))
+    duration = rng.random(30_000)
+    one = toporank.critical_path((src, dst), node_weight=duration, edge_weight=lag, threads=1)
+    two = toporank.critical_path((src, dst), node_weight=duration, edge_weight=lag, threads=2)
+    assert one.length == two.length and np.array_equal(one.path, two.path)
+    assert np.array_equal(one.latest_start, two.latest_start)
+    assert np.array_equal(one.earliest_start, two.earliest_start)
+    # Reference: networkx.dag_longest_path_length on the split graph.
+    g = _weighted_networkx(src, dst, 30_000, lag, duration)
+    assert math.isclose(one.length, nx.dag_longest_path_length(g, weight="w"), rel_tol=1e-12)

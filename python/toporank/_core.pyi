@@ -32,9 +32,10 @@ def critical_path(
     node_weight: np.ndarray | None = None,
     edge_weight: np.ndarray | None = None,
     default_edge_weight: float = 1.0,
+    threads: int = 1,
 ) -> tuple[_Cyclic, float, np.ndarray, np.ndarray, np.ndarray]: ...
 def path_counts(
-    indptr: np.ndarray, indices: np.ndarray
+    indptr: np.ndarray, indices: np.ndarray, threads: int = 1
 ) -> tuple[
     _Cyclic,
     np.ndarray,

@@ -257,6 +257,7 @@ def critical_path(
     *,
     node_weight: Any = None,
     edge_weight: Any = None,
+    threads: int | None = None,
     on_cycle: OnCycle = "raise",
     n: int | None = None,
 ) -> CriticalPath:
@@ -289,8 +290,9 @@ def critical_path(
         values. Default: all 1 when ``node_weight`` is ``None`` (so the
         length counts edges, like :func:`levels`), else all 0 (a plain
         activity-on-node network).
-    on_cycle, n
-        As in :func:`levels`.
+    threads, on_cycle, n
+        As in :func:`levels`: ``threads`` share the backward pass (latest
+        starts) level by level; the result is the same for every count.
 
     Returns
     -------
@@ -338,7 +340,7 @@ def critical_path(
     lags = None if edge_weight is None else edge_values(g, edge_weight, "edge_weight", graph)
     default_lag = 1.0 if node_weight is None else 0.0
     cyclic, length, path, earliest, latest = _core.critical_path(
-        g.indptr, g.indices, durations, lags, default_lag
+        g.indptr, g.indices, durations, lags, default_lag, _thread_count(threads)
     )
     _raise_if_cyclic(g, cyclic)
     return CriticalPath(
@@ -438,7 +440,13 @@ class PathCounts:
         return np.exp(self.log_from_sources + self.log_to_sinks - self.log_total)
 
 
-def path_counts(graph: Any, *, on_cycle: OnCycle = "raise", n: int | None = None) -> PathCounts:
+def path_counts(
+    graph: Any,
+    *,
+    threads: int | None = None,
+    on_cycle: OnCycle = "raise",
+    n: int | None = None,
+) -> PathCounts:
     """Return the number of paths from sources and to sinks per node, and through each edge.
 
     The per-edge count is the search path count (SPC) of main path
@@ -449,8 +457,10 @@ def path_counts(graph: Any, *, on_cycle: OnCycle = "raise", n: int | None = None
     ----------
     graph
         Any graph form :func:`toporank.order` accepts.
-    on_cycle, n
-        As in :func:`levels`.
+    threads, on_cycle, n
+        As in :func:`levels`: ``threads`` share the backward pass (paths to
+        sinks and through edges) level by level; the result is the same, bit
+        for bit, for every count.
 
     Returns
     -------
@@ -489,7 +499,7 @@ def path_counts(graph: Any, *, on_cycle: OnCycle = "raise", n: int | None = None
     g = as_graph(graph, n)
     _check_on_cycle(on_cycle)
     cyclic, from_sources, to_sinks, through, total, exact, logs = _core.path_counts(
-        g.indptr, g.indices
+        g.indptr, g.indices, _thread_count(threads)
     )
     _raise_if_cyclic(g, cyclic)
     positions = g.edge_input_positions()

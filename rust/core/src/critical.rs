@@ -10,9 +10,9 @@
 //!   for a node without successors; latest start `LS = LF - d`;
 //! * slack (total float) `LS - ES`, zero exactly on the longest paths.
 
-use std::cell::Cell;
-
-use crate::sweep::{fifo_sweep, Acyclic, Weights};
+use crate::sweep::{
+    fifo_sweep, into_f64, load_f64, settle_backward, shared_f64, store_f64, Acyclic, Weights,
+};
 use crate::{Csr, Error, Idx};
 
 /// The critical-path quantities of a DAG.
@@ -40,43 +40,39 @@ struct Best {
 ///
 /// The returned path ends at the smallest-id node whose earliest finish is
 /// the length, and steps back each time to the smallest-id predecessor that
-/// fixes the current node's earliest start.
+/// fixes the current node's earliest start. The backward pass (latest
+/// starts) runs on `threads` workers, with the same result for any count.
 pub fn critical_path<I: Idx>(
     csr: &Csr<'_, I>,
     node_weight: Weights<'_>,
     edge_weight: Weights<'_>,
+    threads: usize,
 ) -> Result<Acyclic<Schedule<I>, I>, Error> {
     let n = csr.n();
     node_weight.check("node_weight", n)?;
     edge_weight.check("edge_weight", csr.m())?;
-    let mut best = vec![
-        Best {
-            start: 0.0,
-            pred: NONE
-        };
-        n
-    ];
-    let finish = Cell::new(0.0);
-    let best_cell = Cell::from_mut(best.as_mut_slice()).as_slice_of_cells();
     let swept = fifo_sweep(
         csr,
-        |u| finish.set(best_cell[u].get().start + node_weight.get(u)),
-        |u, v, e| {
-            let candidate = finish.get() + edge_weight.get(e);
-            let current = best_cell[v].get();
-            if current.pred == NONE
-                || candidate > current.start
-                || (candidate == current.start && u < current.pred)
+        Best {
+            start: 0.0,
+            pred: NONE,
+        },
+        |u, best| best.start + node_weight.get(u),
+        |&finish, u, e, best| {
+            let candidate = finish + edge_weight.get(e);
+            if best.pred == NONE
+                || candidate > best.start
+                || (candidate == best.start && u < best.pred)
             {
-                best_cell[v].set(Best {
+                *best = Best {
                     start: candidate,
                     pred: u,
-                });
+                };
             }
         },
     )?;
-    let levels = match swept {
-        Ok(levels) => levels,
+    let (levels, best) = match swept {
+        Ok(swept) => swept,
         Err(cyclic) => return Ok(Err(cyclic)),
     };
     let earliest_start: Vec<f64> = best.iter().map(|b| b.start).collect();
@@ -98,20 +94,21 @@ pub fn critical_path<I: Idx>(
     }
     path.reverse();
 
-    let mut latest_start = vec![0.0; n];
-    for u in levels.order.iter().rev() {
-        let u = u.to_usize();
+    let latest_start = shared_f64(n);
+    settle_backward(&levels, threads, |u| {
         let range = csr.row_range(u);
         let start = range.start;
         let mut latest_finish = length;
         for (offset, v) in csr.indices()[range].iter().enumerate() {
-            latest_finish =
-                latest_finish.min(latest_start[v.to_usize()] - edge_weight.get(start + offset));
+            let next = load_f64(&latest_start[v.to_usize()]);
+            latest_finish = latest_finish.min(next - edge_weight.get(start + offset));
         }
         // Mathematically LS >= ES; the max only absorbs rounding of
         // non-integer weights so slack is never a tiny negative number.
-        latest_start[u] = (latest_finish - node_weight.get(u)).max(earliest_start[u]);
-    }
+        let latest = (latest_finish - node_weight.get(u)).max(earliest_start[u]);
+        store_f64(&latest_start[u], latest);
+    })?;
+    let latest_start = into_f64(latest_start);
     Ok(Ok(Schedule {
         length,
         path,
@@ -131,9 +128,14 @@ mod tests {
         let ids = g.edge_ids.unwrap();
         let stored: Vec<f64> = ids.iter().map(|&k| w[k as usize]).collect();
         let csr = Csr::new(&g.indptr, &g.indices).unwrap();
-        critical_path(&csr, d, Weights::Each(&stored))
+        let one = critical_path(&csr, d, Weights::Each(&stored), 1)
             .unwrap()
+            .unwrap();
+        let two = critical_path(&csr, d, Weights::Each(&stored), 2)
             .unwrap()
+            .unwrap();
+        assert_eq!(one, two);
+        one
     }
 
     #[test]
@@ -251,7 +253,7 @@ mod tests {
         assert_eq!(s.path, vec![0, 1, 3]);
         let csr = Csr::new(&[0i32, 1, 1], &[1]).unwrap();
         let bad = [-1.0];
-        let e = critical_path(&csr, Weights::Constant(0.0), Weights::Each(&bad)).unwrap_err();
+        let e = critical_path(&csr, Weights::Constant(0.0), Weights::Each(&bad), 1).unwrap_err();
         assert_eq!(
             e.to_string(),
             "edge_weight[0] = -1; weights must be finite and non-negative"

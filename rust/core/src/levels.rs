@@ -16,12 +16,8 @@ use rayon::prelude::*;
 
 use crate::kahn::{kahn, Tie};
 use crate::pool::pool;
-use crate::sweep::{fifo_sweep, Acyclic, LevelOrder};
+use crate::sweep::{fifo_sweep, settle_backward, Acyclic, LevelOrder, SERIAL_FRONTIER};
 use crate::{Csr, Error, Idx};
-
-/// Frontiers smaller than this are cheaper to process on one thread than to
-/// hand out; deep, narrow graphs would otherwise pay a pool round trip per level.
-const SERIAL_FRONTIER: usize = 1024;
 
 /// The nodes grouped by level (inside a level in no particular order), on
 /// `threads` workers (`<= 1` runs on the calling thread).
@@ -34,12 +30,16 @@ pub fn level_order<I: Idx>(
 ) -> Result<Acyclic<LevelOrder<I>, I>, Error> {
     let fits = csr.n() <= u32::MAX as usize && csr.m() <= u32::MAX as usize;
     if threads <= 1 || !fits {
-        return fifo_sweep(csr, |_| {}, |_, _, _| {});
+        let swept = fifo_sweep(csr, (), |_, _| (), |_, _, _, _| {})?;
+        return Ok(swept.map(|(levels, _)| levels));
     }
-    pool(threads)?.install(|| parallel_level_order(csr))
+    pool(threads)?.install(|| parallel_level_order(csr, threads))
 }
 
-fn parallel_level_order<I: Idx>(csr: &Csr<'_, I>) -> Result<Acyclic<LevelOrder<I>, I>, Error> {
+fn parallel_level_order<I: Idx>(
+    csr: &Csr<'_, I>,
+    threads: usize,
+) -> Result<Acyclic<LevelOrder<I>, I>, Error> {
     let n = csr.n();
     let indices = csr.indices();
     // position_first keeps the reported bad entry the same as the serial check's.
@@ -51,36 +51,63 @@ fn parallel_level_order<I: Idx>(csr: &Csr<'_, I>) -> Result<Acyclic<LevelOrder<I
             n,
         });
     }
-    let indegree: Vec<AtomicU32> = (0..n).into_par_iter().map(|_| AtomicU32::new(0)).collect();
-    indices.par_chunks(1 << 14).for_each(|chunk| {
-        for v in chunk {
-            indegree[v.to_usize()].fetch_add(1, Relaxed);
-        }
-    });
-    let mut order: Vec<I> = (0..n)
-        .into_par_iter()
-        .filter(|&v| indegree[v].load(Relaxed) == 0)
-        .map(I::from_usize)
+    // Each worker owns one block of node ids and is the only one to touch
+    // their in-degrees: it reads every edge but counts down only its own
+    // targets. Plain memory operations let the core overlap cache misses,
+    // which atomic read-modify-writes on random nodes would serialise.
+    let block = n.div_ceil(threads).max(1);
+    let mut indegree = vec![0u32; n];
+    indegree
+        .par_chunks_mut(block)
+        .enumerate()
+        .for_each(|(t, mine)| {
+            let low = t * block;
+            for v in indices {
+                if let Some(count) = mine.get_mut(v.to_usize().wrapping_sub(low)) {
+                    *count += 1;
+                }
+            }
+        });
+    let mut order: Vec<I> = indegree
+        .par_iter()
+        .enumerate()
+        .filter(|(_, &d)| d == 0)
+        .map(|(v, _)| I::from_usize(v))
         .collect();
     let mut offsets = vec![0];
     let mut start = 0;
-    let release = |u: &I| {
-        let indegree = &indegree;
-        csr.row(u.to_usize())
-            .iter()
-            .copied()
-            .filter(move |v| indegree[v.to_usize()].fetch_sub(1, Relaxed) == 1)
+    let release = |frontier: &[I], low: usize, mine: &mut [u32], next: &mut Vec<I>| {
+        for u in frontier {
+            for &v in csr.row(u.to_usize()) {
+                if let Some(count) = mine.get_mut(v.to_usize().wrapping_sub(low)) {
+                    *count -= 1;
+                    if *count == 0 {
+                        next.push(v);
+                    }
+                }
+            }
+        }
     };
     while start < order.len() {
         if start > 0 {
             offsets.push(start);
         }
         let frontier = &order[start..];
-        let next: Vec<I> = if frontier.len() < SERIAL_FRONTIER {
-            frontier.iter().flat_map(release).collect()
+        let mut next = Vec::new();
+        if frontier.len() < SERIAL_FRONTIER {
+            release(frontier, 0, &mut indegree, &mut next);
         } else {
-            frontier.par_iter().flat_map_iter(release).collect()
-        };
+            let parts: Vec<Vec<I>> = indegree
+                .par_chunks_mut(block)
+                .enumerate()
+                .map(|(t, mine)| {
+                    let mut part = Vec::new();
+                    release(frontier, t * block, mine, &mut part);
+                    part
+                })
+                .collect();
+            next = parts.concat();
+        }
         start = order.len();
         order.extend(next);
     }
@@ -93,9 +120,33 @@ fn parallel_level_order<I: Idx>(csr: &Csr<'_, I>) -> Result<Acyclic<LevelOrder<I
     Ok(Ok(LevelOrder { order, offsets }))
 }
 
-/// The level of every node, from a level order.
-pub fn levels_from<I: Idx>(levels: &LevelOrder<I>) -> Vec<I> {
-    let mut level = vec![I::default(); levels.order.len()];
+/// The level of every node, from a level order, on `threads` workers.
+pub fn levels_from<I: Idx>(levels: &LevelOrder<I>, threads: usize) -> Vec<I> {
+    let n = levels.order.len();
+    if threads > 1 && n <= u32::MAX as usize {
+        if let Ok(pool) = pool(threads) {
+            // Relaxed stores compile to plain stores; each node is written once.
+            let level: Vec<AtomicU32> = pool.install(|| {
+                let level: Vec<AtomicU32> =
+                    (0..n).into_par_iter().map(|_| AtomicU32::new(0)).collect();
+                levels
+                    .offsets
+                    .par_windows(2)
+                    .enumerate()
+                    .for_each(|(k, group)| {
+                        levels.order[group[0]..group[1]]
+                            .par_iter()
+                            .for_each(|v| level[v.to_usize()].store(k as u32, Relaxed));
+                    });
+                level
+            });
+            return level
+                .into_iter()
+                .map(|k| I::from_usize(k.into_inner() as usize))
+                .collect();
+        }
+    }
+    let mut level = vec![I::default(); n];
     for (k, group) in levels.offsets.windows(2).enumerate() {
         for v in &levels.order[group[0]..group[1]] {
             level[v.to_usize()] = I::from_usize(k);
@@ -137,28 +188,15 @@ pub fn heights<I: Idx>(
         }
         return Ok(height.into_iter().map(I::from_usize).collect());
     }
-    let height: Vec<AtomicU32> = (0..n).into_par_iter().map(|_| AtomicU32::new(0)).collect();
-    // Successors sit on higher levels, so walking the levels downwards finds
-    // every successor's height final; inside a level nodes are independent.
-    let settle = |u: &I| {
-        let u = u.to_usize();
+    let height: Vec<AtomicU32> = (0..n).map(|_| AtomicU32::new(0)).collect();
+    settle_backward(levels, threads, |u| {
         let h = csr
             .row(u)
             .iter()
             .map(|v| height[v.to_usize()].load(Relaxed) + 1)
             .max();
         height[u].store(h.unwrap_or(0), Relaxed);
-    };
-    pool(threads)?.install(|| {
-        for group in levels.offsets.windows(2).rev() {
-            let group = &levels.order[group[0]..group[1]];
-            if group.len() < SERIAL_FRONTIER {
-                group.iter().for_each(settle);
-            } else {
-                group.par_iter().for_each(settle);
-            }
-        }
-    });
+    })?;
     Ok(height
         .into_iter()
         .map(|h| I::from_usize(h.into_inner() as usize))
@@ -224,7 +262,7 @@ mod tests {
             let reversed = reference_levels(n, &dst, &src);
             for threads in [1, 2, 3] {
                 let lo = level_order(&csr, threads).unwrap().unwrap();
-                let level = levels_from(&lo);
+                let level = levels_from(&lo, threads);
                 assert_eq!(level, expected, "threads = {threads}");
                 assert_eq!(heights(&csr, &lo, threads).unwrap(), reversed);
                 let nodes = grouped(&level, &lo.offsets);

@@ -12,9 +12,9 @@
 //! values), and natural logarithms (computed here only when float64
 //! overflows; the caller takes logs of the floats otherwise).
 
-use std::cell::Cell;
-
-use crate::sweep::{fifo_sweep, Acyclic, LevelOrder};
+use crate::sweep::{
+    fifo_sweep, into_f64, load_f64, settle_backward, shared_f64, store_f64, Acyclic, LevelOrder,
+};
 use crate::{Csr, Error, Idx};
 
 /// Exact counts, present only when the total fits `u64`.
@@ -55,46 +55,48 @@ const FLOAT_EXACT_BELOW: f64 = 9_007_199_254_740_992.0;
 /// beyond `u64::MAX`, so an exact pass would be wasted.
 const SURELY_TOO_BIG: f64 = 18_446_744_073_709_551_616.0 * (1.0 + 1e-7);
 
-/// Count the paths of `csr`.
-pub fn path_counts<I: Idx>(csr: &Csr<'_, I>) -> Result<Acyclic<Counts, I>, Error> {
+/// Count the paths of `csr`; the backward pass runs on `threads` workers
+/// (same result for any count).
+pub fn path_counts<I: Idx>(csr: &Csr<'_, I>, threads: usize) -> Result<Acyclic<Counts, I>, Error> {
     let n = csr.n();
-    let mut from = vec![0.0f64; n];
-    let current = Cell::new(0.0);
-    let from_cell = Cell::from_mut(from.as_mut_slice()).as_slice_of_cells();
     let swept = fifo_sweep(
         csr,
-        |u| {
+        0.0f64,
+        |_, from| {
             // Only a source reaches its turn without a path in.
-            if from_cell[u].get() == 0.0 {
-                from_cell[u].set(1.0);
+            if *from == 0.0 {
+                *from = 1.0;
             }
-            current.set(from_cell[u].get());
+            *from
         },
-        |_, v, _| from_cell[v].set(from_cell[v].get() + current.get()),
+        |&passed, _, _, from| *from += passed,
     )?;
-    let levels = match swept {
-        Ok(levels) => levels,
+    let (levels, from) = match swept {
+        Ok(swept) => swept,
         Err(cyclic) => return Ok(Err(cyclic)),
     };
-    let mut to = vec![0.0f64; n];
-    let mut through = vec![0.0f64; csr.m()];
-    let mut total = 0.0;
-    for u in levels.order.iter().rev() {
-        let u = u.to_usize();
+    let to = shared_f64(n);
+    let through = shared_f64(csr.m());
+    settle_backward(&levels, threads, |u| {
         let range = csr.row_range(u);
         if range.is_empty() {
-            to[u] = 1.0;
-            total += from[u];
-            continue;
+            store_f64(&to[u], 1.0);
+            return;
         }
         let mut sum = 0.0;
-        for (slot, v) in through[range.clone()].iter_mut().zip(&csr.indices()[range]) {
-            let t = to[v.to_usize()];
+        for (cell, v) in through[range.clone()].iter().zip(&csr.indices()[range]) {
+            let t = load_f64(&to[v.to_usize()]);
             sum += t;
-            *slot = from[u] * t;
+            store_f64(cell, from[u] * t);
         }
-        to[u] = sum;
-    }
+        store_f64(&to[u], sum);
+    })?;
+    let (to, through) = (into_f64(to), into_f64(through));
+    // Summed in id order so the total does not depend on the thread count.
+    let total: f64 = (0..n)
+        .filter(|&u| csr.row_range(u).is_empty())
+        .map(|u| from[u])
+        .sum();
     let exact = if total < FLOAT_EXACT_BELOW {
         let exact = |values: &[f64]| values.iter().map(|&x| x as u64).collect();
         Some(ExactCounts {
@@ -280,7 +282,8 @@ mod tests {
                         walks_to_sinks(u, &stored_src, &g.indices, &mut through, &mut Vec::new());
                 }
             }
-            let counts = path_counts(&csr).unwrap().unwrap();
+            let counts = path_counts(&csr, 1).unwrap().unwrap();
+            assert_eq!(path_counts(&csr, 2).unwrap().unwrap(), counts);
             let exact = counts.exact.unwrap();
             assert_eq!(exact.total, total);
             assert_eq!(exact.to_sinks, to);
@@ -307,7 +310,7 @@ mod tests {
             let (src, dst, n) = diamonds(k);
             let g = edges_to_csr(&src, &dst, n, false).unwrap();
             let csr = Csr::new(&g.indptr, &g.indices).unwrap();
-            let counts = path_counts(&csr).unwrap().unwrap();
+            let counts = path_counts(&csr, 2).unwrap().unwrap();
             assert_eq!(counts.exact.is_some(), fits, "k = {k}");
             if let Some(exact) = counts.exact {
                 assert_eq!(exact.total, 1u64 << k);
@@ -321,7 +324,7 @@ mod tests {
         let (src, dst, n) = diamonds(1100);
         let g = edges_to_csr(&src, &dst, n, false).unwrap();
         let csr = Csr::new(&g.indptr, &g.indices).unwrap();
-        let counts = path_counts(&csr).unwrap().unwrap();
+        let counts = path_counts(&csr, 1).unwrap().unwrap();
         assert!(counts.total.is_infinite() && counts.exact.is_none());
         let log = counts.log.unwrap();
         let expected = 1100.0 * 2f64.ln();

@@ -5,7 +5,12 @@
 //! value is final. Doing both in the same loop reads each CSR row once
 //! instead of twice, which is most of the cost on graphs larger than cache.
 
+use std::sync::atomic::{AtomicU64, Ordering::Relaxed};
+
+use rayon::prelude::*;
+
 use crate::kahn::{kahn, Outcome, Tie};
+use crate::pool::pool;
 use crate::{Csr, Error, Idx};
 
 /// What a sweep yields: the value on a DAG, or what Kahn's loop found on a
@@ -22,25 +27,34 @@ pub struct LevelOrder<I> {
     pub offsets: Vec<usize>,
 }
 
-/// FIFO Kahn's loop calling `visit(u, v, edge)` for every stored edge once,
-/// when `u` is emitted (so everything `u` depends on is already visited).
-/// `emit(u)` runs just before `u`'s edges are visited.
+/// FIFO Kahn's loop that builds one value per node (starting from `init`)
+/// while visiting every stored edge once, in topological order.
+///
+/// When `u` is emitted (everything before it is final), `emit(u, &mut
+/// value[u])` returns what `u` passes along; then `visit(&passed, u, edge,
+/// &mut value[v])` runs for each stored edge `u -> v`, in row order.
 ///
 /// The queue emits level by level: the level-`k + 1` nodes are exactly the
 /// ones made ready while level `k` is emitted, so the FIFO order is sorted by
 /// level and the boundaries come for free.
-pub fn fifo_sweep<I, E, V>(
+#[allow(clippy::type_complexity)]
+pub fn fifo_sweep<I, T, C, E, V>(
     csr: &Csr<'_, I>,
+    init: T,
     mut emit: E,
     mut visit: V,
-) -> Result<Acyclic<LevelOrder<I>, I>, Error>
+) -> Result<Acyclic<(LevelOrder<I>, Vec<T>), I>, Error>
 where
     I: Idx,
-    E: FnMut(usize),
-    V: FnMut(usize, usize, usize),
+    T: Copy,
+    E: FnMut(usize, &mut T) -> C,
+    V: FnMut(&C, usize, usize, &mut T),
 {
     let n = csr.n();
+    // Two arrays rather than one of pairs: the in-degrees alone stay small
+    // enough for cache, and measured faster on citation-like graphs.
     let mut indegree = csr.in_degrees()?;
+    let mut values = vec![init; n];
     let mut order: Vec<I> = Vec::with_capacity(n);
     for (v, d) in indegree.iter().enumerate() {
         if d.to_usize() == 0 {
@@ -57,12 +71,12 @@ where
         }
         let u = order[head].to_usize();
         head += 1;
-        emit(u);
+        let passed = emit(u, &mut values[u]);
         let range = csr.row_range(u);
         let start = range.start;
         for (offset, &v) in csr.indices()[range].iter().enumerate() {
             let vi = v.to_usize();
-            visit(u, vi, start + offset);
+            visit(&passed, u, start + offset, &mut values[vi]);
             let slot = &mut indegree[vi];
             let left = slot.to_usize() - 1;
             *slot = I::from_usize(left);
@@ -78,7 +92,64 @@ where
     if n > 0 {
         offsets.push(n);
     }
-    Ok(Ok(LevelOrder { order, offsets }))
+    Ok(Ok((LevelOrder { order, offsets }, values)))
+}
+
+/// Frontiers smaller than this are cheaper to process on one thread than to
+/// hand out; deep, narrow graphs would otherwise pay a pool round trip per level.
+pub const SERIAL_FRONTIER: usize = 1024;
+
+/// Call `settle(u)` once for every node, from the last level down, so that
+/// each node's successors (all on higher levels) are settled before it.
+///
+/// With `threads > 1` the nodes of a level are shared among the workers; a
+/// `settle` that reads only successors and writes only `u`'s own slots
+/// (through relaxed atomics, which compile to plain loads and stores) then
+/// gives the same result as one thread, bit for bit.
+pub fn settle_backward<I, F>(levels: &LevelOrder<I>, threads: usize, settle: F) -> Result<(), Error>
+where
+    I: Idx,
+    F: Fn(usize) + Sync,
+{
+    if threads <= 1 {
+        levels.order.iter().rev().for_each(|u| settle(u.to_usize()));
+        return Ok(());
+    }
+    pool(threads)?.install(|| {
+        for group in levels.offsets.windows(2).rev() {
+            let group = &levels.order[group[0]..group[1]];
+            if group.len() < SERIAL_FRONTIER {
+                group.iter().for_each(|u| settle(u.to_usize()));
+            } else {
+                group.par_iter().for_each(|u| settle(u.to_usize()));
+            }
+        }
+    });
+    Ok(())
+}
+
+/// Fresh zeroed `f64` cells that workers may fill concurrently.
+pub fn shared_f64(len: usize) -> Vec<AtomicU64> {
+    // 0u64 is the bit pattern of 0.0.
+    (0..len).map(|_| AtomicU64::new(0)).collect()
+}
+
+/// The values of [`shared_f64`] cells.
+pub fn into_f64(cells: Vec<AtomicU64>) -> Vec<f64> {
+    cells
+        .into_iter()
+        .map(|c| f64::from_bits(c.into_inner()))
+        .collect()
+}
+
+#[inline(always)]
+pub fn load_f64(cell: &AtomicU64) -> f64 {
+    f64::from_bits(cell.load(Relaxed))
+}
+
+#[inline(always)]
+pub fn store_f64(cell: &AtomicU64, value: f64) {
+    cell.store(value.to_bits(), Relaxed)
 }
 
 /// Per-node or per-edge numbers: one value for all, or one each.
@@ -138,14 +209,23 @@ mod tests {
         let g = edges_to_csr(&[3i32, 0, 1, 3], &[0, 1, 2, 2], 5, false).unwrap();
         let csr = Csr::new(&g.indptr, &g.indices).unwrap();
         let mut seen = Vec::new();
-        let out = fifo_sweep(&csr, |_| {}, |u, v, e| seen.push((u, v, e)))
-            .unwrap()
-            .unwrap();
+        let (out, inbound) = fifo_sweep(
+            &csr,
+            0usize,
+            |u, _| u,
+            |&passed, u, e, count| {
+                assert_eq!(passed, u);
+                seen.push((u, e));
+                *count += 1;
+            },
+        )
+        .unwrap()
+        .unwrap();
         assert_eq!(out.order, vec![3, 4, 0, 1, 2]);
         assert_eq!(out.offsets, vec![0, 2, 3, 4, 5]);
+        assert_eq!(inbound, vec![1, 1, 2, 0, 0]);
         assert_eq!(seen.len(), 4);
-        for (u, v, e) in seen {
-            assert_eq!(g.indices[e] as usize, v);
+        for (u, e) in seen {
             assert!(csr.row_range(u).contains(&e));
         }
     }
@@ -153,12 +233,21 @@ mod tests {
     #[test]
     fn cycles_are_reported_not_swept() {
         let csr = Csr::new(&[0i64, 1, 2, 2], &[1, 0]).unwrap();
-        let out = fifo_sweep(&csr, |_| {}, |_, _, _| {}).unwrap().unwrap_err();
+        let out = fifo_sweep(&csr, (), |_, _| (), |_, _, _, _| {})
+            .unwrap()
+            .unwrap_err();
         assert_eq!(out.cycle, vec![0, 1]);
         assert_eq!(out.order, vec![2]);
         let empty = Csr::<i32>::new(&[0], &[]).unwrap();
-        let out = fifo_sweep(&empty, |_| {}, |_, _, _| {}).unwrap().unwrap();
+        let (out, _) = fifo_sweep(&empty, (), |_, _| (), |_, _, _, _| {})
+            .unwrap()
+            .unwrap();
         assert!(out.order.is_empty() && out.offsets == vec![0]);
+        let bad = Csr::new(&[0i32, 1], &[4]).unwrap();
+        assert!(matches!(
+            fifo_sweep(&bad, (), |_, _| (), |_, _, _, _| {}),
+            Err(Error::IndexOutOfRange { value: 4, .. })
+        ));
     }
 
     #[test]

@@ -58,7 +58,7 @@ fn levels<'py>(
         let swept = compute(py, || {
             let csr = Csr::<I>::new(indptr, indices)?;
             Ok(level_sweep::level_order(&csr, threads)?.map(|order| {
-                let level = level_sweep::levels_from(&order);
+                let level = level_sweep::levels_from(&order, threads);
                 let nodes = grouped.then(|| level_sweep::grouped(&level, &order.offsets));
                 (level, nodes, offsets_array(&order.offsets))
             }))
@@ -129,7 +129,7 @@ fn as_weights<'a>(
 /// `(cyclic, length, path, earliest_start, latest_start)`. Missing node
 /// weights are 0; missing edge weights are `default_edge_weight`.
 #[pyfunction]
-#[pyo3(signature = (indptr, indices, node_weight=None, edge_weight=None, default_edge_weight=1.0))]
+#[pyo3(signature = (indptr, indices, node_weight=None, edge_weight=None, default_edge_weight=1.0, threads=1))]
 fn critical_path<'py>(
     py: Python<'py>,
     indptr: &Bound<'py, PyAny>,
@@ -137,6 +137,7 @@ fn critical_path<'py>(
     node_weight: Option<&Bound<'py, PyAny>>,
     edge_weight: Option<&Bound<'py, PyAny>>,
     default_edge_weight: f64,
+    threads: usize,
 ) -> PyResult<Bound<'py, PyTuple>> {
     let node_weight = read_weights(node_weight, "node_weight")?;
     let edge_weight = read_weights(edge_weight, "edge_weight")?;
@@ -146,7 +147,7 @@ fn critical_path<'py>(
         let (indptr, indices) = (slice(&indptr, "indptr")?, slice(&indices, "indices")?);
         let swept = compute(py, || {
             let csr = Csr::<I>::new(indptr, indices)?;
-            critical::critical_path(&csr, node_weight, edge_weight)
+            critical::critical_path(&csr, node_weight, edge_weight, threads)
         })?
         .map_err(|e| to_pyerr(py, e))?;
         let (cyclic, value) = split(py, swept)?;
@@ -168,16 +169,18 @@ fn critical_path<'py>(
 /// `exact` is `(from, to, through, total)` in uint64 or `None` on overflow,
 /// `log` the same in natural logs, only when the float total is infinite.
 #[pyfunction]
+#[pyo3(signature = (indptr, indices, threads=1))]
 fn path_counts<'py>(
     py: Python<'py>,
     indptr: &Bound<'py, PyAny>,
     indices: &Bound<'py, PyAny>,
+    threads: usize,
 ) -> PyResult<Bound<'py, PyTuple>> {
     with_index_width!(indptr, indices, I => {
         let (indptr, indices) = (slice(&indptr, "indptr")?, slice(&indices, "indices")?);
         let swept = compute(py, || {
             let csr = Csr::<I>::new(indptr, indices)?;
-            paths::path_counts(&csr)
+            paths::path_counts(&csr, threads)
         })?
         .map_err(|e| to_pyerr(py, e))?;
         let (cyclic, value) = split(py, swept)?;
