@@ -10,9 +10,7 @@
 //!   for a node without successors; latest start `LS = LF - d`;
 //! * slack (total float) `LS - ES`, zero exactly on the longest paths.
 
-use crate::sweep::{
-    fifo_sweep, into_f64, load_f64, settle_backward, shared_f64, store_f64, Acyclic, Weights,
-};
+use crate::sweep::{fifo_sweep, settle_backward, Acyclic, Disjoint, Weights};
 use crate::{Csr, Error, Idx};
 
 /// The critical-path quantities of a DAG.
@@ -94,21 +92,23 @@ pub fn critical_path<I: Idx>(
     }
     path.reverse();
 
-    let latest_start = shared_f64(n);
+    let mut latest_start = vec![0.0f64; n];
+    let cells = Disjoint::new(&mut latest_start);
     settle_backward(&levels, threads, |u| {
         let range = csr.row_range(u);
         let start = range.start;
         let mut latest_finish = length;
         for (offset, v) in csr.indices()[range].iter().enumerate() {
-            let next = load_f64(&latest_start[v.to_usize()]);
+            // SAFETY (settle_backward's contract): successors are settled.
+            let next = unsafe { cells.get(v.to_usize()) };
             latest_finish = latest_finish.min(next - edge_weight.get(start + offset));
         }
         // Mathematically LS >= ES; the max only absorbs rounding of
         // non-integer weights so slack is never a tiny negative number.
         let latest = (latest_finish - node_weight.get(u)).max(earliest_start[u]);
-        store_f64(&latest_start[u], latest);
+        // SAFETY (settle_backward's contract): only this call writes u.
+        unsafe { cells.set(u, latest) };
     })?;
-    let latest_start = into_f64(latest_start);
     Ok(Ok(Schedule {
         length,
         path,

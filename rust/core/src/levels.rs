@@ -51,23 +51,43 @@ fn parallel_level_order<I: Idx>(
             n,
         });
     }
-    // Each worker owns one block of node ids and is the only one to touch
-    // their in-degrees: it reads every edge but counts down only its own
-    // targets. Plain memory operations let the core overlap cache misses,
-    // which atomic read-modify-writes on random nodes would serialise.
-    let block = n.div_ceil(threads).max(1);
+    // Each worker owns one block of node ids (a power of two long, so the
+    // owner of `v` is `v >> shift`) and is the only one to touch their
+    // in-degrees. Plain memory operations let a core overlap its cache
+    // misses, which atomic read-modify-writes on random nodes would serialise.
+    let shift = n
+        .div_ceil(threads)
+        .max(1)
+        .next_power_of_two()
+        .trailing_zeros();
+    let block = 1usize << shift;
+    let owners = n.div_ceil(block);
+    // Each worker counts its share of the edges into a histogram of its
+    // own, then the histograms are summed node range by node range.
+    let share = indices.len().div_ceil(threads).max(1);
+    let histograms: Vec<Vec<u32>> = indices
+        .par_chunks(share)
+        .map(|edges| {
+            let mut histogram = vec![0u32; n];
+            for v in edges {
+                histogram[v.to_usize()] += 1;
+            }
+            histogram
+        })
+        .collect();
     let mut indegree = vec![0u32; n];
     indegree
-        .par_chunks_mut(block)
+        .par_chunks_mut(1 << 16)
         .enumerate()
-        .for_each(|(t, mine)| {
-            let low = t * block;
-            for v in indices {
-                if let Some(count) = mine.get_mut(v.to_usize().wrapping_sub(low)) {
-                    *count += 1;
+        .for_each(|(k, total)| {
+            let low = k << 16;
+            for histogram in &histograms {
+                for (sum, count) in total.iter_mut().zip(&histogram[low..]) {
+                    *sum += count;
                 }
             }
         });
+    drop(histograms);
     let mut order: Vec<I> = indegree
         .par_iter()
         .enumerate()
@@ -76,18 +96,21 @@ fn parallel_level_order<I: Idx>(
         .collect();
     let mut offsets = vec![0];
     let mut start = 0;
-    let release = |frontier: &[I], low: usize, mine: &mut [u32], next: &mut Vec<I>| {
+    let serial_release = |frontier: &[I], indegree: &mut [u32], next: &mut Vec<I>| {
         for u in frontier {
             for &v in csr.row(u.to_usize()) {
-                if let Some(count) = mine.get_mut(v.to_usize().wrapping_sub(low)) {
-                    *count -= 1;
-                    if *count == 0 {
-                        next.push(v);
-                    }
+                let count = &mut indegree[v.to_usize()];
+                *count -= 1;
+                if *count == 0 {
+                    next.push(v);
                 }
             }
         }
     };
+    let pieces = 4 * threads;
+    // Reused from level to level: fresh buffers would be paid for again in
+    // page faults and regrowth on every level.
+    let mut buckets: Vec<Vec<Vec<I>>> = vec![vec![Vec::new(); owners]; pieces];
     while start < order.len() {
         if start > 0 {
             offsets.push(start);
@@ -95,14 +118,36 @@ fn parallel_level_order<I: Idx>(
         let frontier = &order[start..];
         let mut next = Vec::new();
         if frontier.len() < SERIAL_FRONTIER {
-            release(frontier, 0, &mut indegree, &mut next);
+            serial_release(frontier, &mut indegree, &mut next);
         } else {
+            // Two phases, so each row is read once and each count touched
+            // by its owner only: pieces of the frontier sort their targets
+            // into one bucket per owner, then each owner counts its buckets down.
+            // Clear every bucket first: the frontier may split into fewer pieces.
+            buckets.iter_mut().flatten().for_each(Vec::clear);
+            buckets
+                .par_iter_mut()
+                .zip(frontier.par_chunks(frontier.len().div_ceil(pieces)))
+                .for_each(|(by_owner, piece)| {
+                    for u in piece {
+                        for &v in csr.row(u.to_usize()) {
+                            by_owner[v.to_usize() >> shift].push(v);
+                        }
+                    }
+                });
             let parts: Vec<Vec<I>> = indegree
                 .par_chunks_mut(block)
                 .enumerate()
                 .map(|(t, mine)| {
+                    let low = t * block;
                     let mut part = Vec::new();
-                    release(frontier, t * block, mine, &mut part);
+                    for v in buckets.iter().flat_map(|b| &b[t]) {
+                        let count = &mut mine[v.to_usize() - low];
+                        *count -= 1;
+                        if *count == 0 {
+                            part.push(*v);
+                        }
+                    }
                     part
                 })
                 .collect();

@@ -12,9 +12,7 @@
 //! values), and natural logarithms (computed here only when float64
 //! overflows; the caller takes logs of the floats otherwise).
 
-use crate::sweep::{
-    fifo_sweep, into_f64, load_f64, settle_backward, shared_f64, store_f64, Acyclic, LevelOrder,
-};
+use crate::sweep::{fifo_sweep, settle_backward, Acyclic, Disjoint, LevelOrder};
 use crate::{Csr, Error, Idx};
 
 /// Exact counts, present only when the total fits `u64`.
@@ -75,23 +73,27 @@ pub fn path_counts<I: Idx>(csr: &Csr<'_, I>, threads: usize) -> Result<Acyclic<C
         Ok(swept) => swept,
         Err(cyclic) => return Ok(Err(cyclic)),
     };
-    let to = shared_f64(n);
-    let through = shared_f64(csr.m());
+    let mut to = vec![0.0f64; n];
+    let mut through = vec![0.0f64; csr.m()];
+    let (to_cells, through_cells) = (Disjoint::new(&mut to), Disjoint::new(&mut through));
     settle_backward(&levels, threads, |u| {
-        let range = csr.row_range(u);
-        if range.is_empty() {
-            store_f64(&to[u], 1.0);
-            return;
+        // SAFETY (settle_backward's contract): this writes only `to[u]` and
+        // the edges of row u, and reads only successors' `to`.
+        unsafe {
+            let range = csr.row_range(u);
+            if range.is_empty() {
+                to_cells.set(u, 1.0);
+                return;
+            }
+            let mut sum = 0.0;
+            for (e, v) in range.clone().zip(&csr.indices()[range]) {
+                let t = to_cells.get(v.to_usize());
+                sum += t;
+                through_cells.set(e, from[u] * t);
+            }
+            to_cells.set(u, sum);
         }
-        let mut sum = 0.0;
-        for (cell, v) in through[range.clone()].iter().zip(&csr.indices()[range]) {
-            let t = load_f64(&to[v.to_usize()]);
-            sum += t;
-            store_f64(cell, from[u] * t);
-        }
-        store_f64(&to[u], sum);
     })?;
-    let (to, through) = (into_f64(to), into_f64(through));
     // Summed in id order so the total does not depend on the thread count.
     let total: f64 = (0..n)
         .filter(|&u| csr.row_range(u).is_empty())

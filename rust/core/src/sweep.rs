@@ -5,7 +5,7 @@
 //! value is final. Doing both in the same loop reads each CSR row once
 //! instead of twice, which is most of the cost on graphs larger than cache.
 
-use std::sync::atomic::{AtomicU64, Ordering::Relaxed};
+use std::marker::PhantomData;
 
 use rayon::prelude::*;
 
@@ -102,10 +102,12 @@ pub const SERIAL_FRONTIER: usize = 1024;
 /// Call `settle(u)` once for every node, from the last level down, so that
 /// each node's successors (all on higher levels) are settled before it.
 ///
-/// With `threads > 1` the nodes of a level are shared among the workers; a
-/// `settle` that reads only successors and writes only `u`'s own slots
-/// (through relaxed atomics, which compile to plain loads and stores) then
-/// gives the same result as one thread, bit for bit.
+/// With `threads > 1` the nodes of a level are shared among the workers, and
+/// a level starts only when the one above is finished. A `settle` that
+/// reads only the slots of `u`'s successors and writes only `u`'s own (its
+/// node and the edges of its row) therefore never races, and gives the same
+/// result as one thread, bit for bit; that is the contract under which it
+/// may use [`Disjoint`].
 pub fn settle_backward<I, F>(levels: &LevelOrder<I>, threads: usize, settle: F) -> Result<(), Error>
 where
     I: Idx,
@@ -128,28 +130,59 @@ where
     Ok(())
 }
 
-/// Fresh zeroed `f64` cells that workers may fill concurrently.
-pub fn shared_f64(len: usize) -> Vec<AtomicU64> {
-    // 0u64 is the bit pattern of 0.0.
-    (0..len).map(|_| AtomicU64::new(0)).collect()
+/// A mutable slice that the workers of [`settle_backward`] write at
+/// distinct positions concurrently.
+///
+/// Atomics would do the same job, but cannot be laid over a zeroed
+/// allocation (which the system hands out lazily) nor handed back as plain
+/// numbers without a copy; on per-edge arrays of tens of millions of entries
+/// both costs show.
+pub struct Disjoint<'a, T> {
+    start: *mut T,
+    len: usize,
+    _borrow: PhantomData<&'a mut [T]>,
 }
 
-/// The values of [`shared_f64`] cells.
-pub fn into_f64(cells: Vec<AtomicU64>) -> Vec<f64> {
-    cells
-        .into_iter()
-        .map(|c| f64::from_bits(c.into_inner()))
-        .collect()
-}
+// SAFETY: the callers' contract (below) rules out two threads touching one
+// position unsynchronised; sharing the pointer itself is harmless.
+unsafe impl<T: Send> Sync for Disjoint<'_, T> {}
 
-#[inline(always)]
-pub fn load_f64(cell: &AtomicU64) -> f64 {
-    f64::from_bits(cell.load(Relaxed))
-}
+impl<'a, T: Copy> Disjoint<'a, T> {
+    pub fn new(slice: &'a mut [T]) -> Self {
+        Disjoint {
+            start: slice.as_mut_ptr(),
+            len: slice.len(),
+            _borrow: PhantomData,
+        }
+    }
 
-#[inline(always)]
-pub fn store_f64(cell: &AtomicU64, value: f64) {
-    cell.store(value.to_bits(), Relaxed)
+    /// The value at `index`.
+    ///
+    /// # Safety
+    /// No other thread may be writing `index` at the same time.
+    #[inline(always)]
+    pub unsafe fn get(&self, index: usize) -> T {
+        assert!(
+            index < self.len,
+            "Disjoint index {index} out of {}",
+            self.len
+        );
+        *self.start.add(index)
+    }
+
+    /// Write `value` at `index`.
+    ///
+    /// # Safety
+    /// No other thread may be reading or writing `index` at the same time.
+    #[inline(always)]
+    pub unsafe fn set(&self, index: usize, value: T) {
+        assert!(
+            index < self.len,
+            "Disjoint index {index} out of {}",
+            self.len
+        );
+        *self.start.add(index) = value;
+    }
 }
 
 /// Per-node or per-edge numbers: one value for all, or one each.
