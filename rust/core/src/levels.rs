@@ -51,12 +51,14 @@ fn parallel_level_order<I: Idx>(
             n,
         });
     }
-    // Each worker owns one block of node ids (a power of two long, so the
-    // owner of `v` is `v >> shift`) and is the only one to touch their
-    // in-degrees. Plain memory operations let a core overlap its cache
-    // misses, which atomic read-modify-writes on random nodes would serialise.
+    // Node ids are cut into blocks (a power of two long, so the block of `v`
+    // is `v >> shift`); one task at a time owns a block's in-degrees. Plain
+    // memory operations let a core overlap its cache misses, which atomic
+    // read-modify-writes on random nodes would serialise. A few blocks per
+    // worker, so that a worker held up (by the OS, on a busy machine) leaves
+    // blocks for the others to take instead of stalling the level.
     let shift = n
-        .div_ceil(threads)
+        .div_ceil(4 * threads)
         .max(1)
         .next_power_of_two()
         .trailing_zeros();
