@@ -25,14 +25,6 @@ pub struct Schedule<I> {
 
 const NONE: usize = usize::MAX;
 
-/// Earliest start so far and the predecessor that set it, kept side by side
-/// so an edge costs one random access instead of two.
-#[derive(Clone, Copy)]
-struct Best {
-    start: f64,
-    pred: usize,
-}
-
 /// Run the critical path method. `node_weight` holds durations (one per
 /// node), `edge_weight` lags in stored edge order; both non-negative.
 ///
@@ -49,31 +41,23 @@ pub fn critical_path<I: Idx>(
     let n = csr.n();
     node_weight.check("node_weight", n)?;
     edge_weight.check("edge_weight", csr.m())?;
+    // A node's value starts below any candidate; the one still there when
+    // it is emitted has no predecessor and starts at 0.
     let swept = fifo_sweep(
         csr,
-        Best {
-            start: 0.0,
-            pred: NONE,
-        },
-        |u, best| best.start + node_weight.get(u),
-        |&finish, u, e, best| {
-            let candidate = finish + edge_weight.get(e);
-            if best.pred == NONE
-                || candidate > best.start
-                || (candidate == best.start && u < best.pred)
-            {
-                *best = Best {
-                    start: candidate,
-                    pred: u,
-                };
+        f64::NEG_INFINITY,
+        |u, start| {
+            if *start == f64::NEG_INFINITY {
+                *start = 0.0;
             }
+            *start + node_weight.get(u)
         },
+        |&finish, _, e, start| *start = start.max(finish + edge_weight.get(e)),
     )?;
-    let (levels, best) = match swept {
+    let (levels, earliest_start) = match swept {
         Ok(swept) => swept,
         Err(cyclic) => return Ok(Err(cyclic)),
     };
-    let earliest_start: Vec<f64> = best.iter().map(|b| b.start).collect();
     let earliest_finish = |u: usize| earliest_start[u] + node_weight.get(u);
     let mut length = 0.0f64;
     let mut end = NONE;
@@ -84,11 +68,27 @@ pub fn critical_path<I: Idx>(
             end = u;
         }
     }
+    // The predecessor fixing each earliest start, found afterwards in one
+    // pass in id order (so the first found is the smallest id) rather than
+    // tracked during the sweep, where ties made it cost more than this pass.
+    // The sums repeat the sweep's exactly, so equality is exact.
+    let mut pred = vec![NONE; n];
+    for u in 0..n {
+        let finish = earliest_finish(u);
+        let range = csr.row_range(u);
+        let start = range.start;
+        for (offset, v) in csr.indices()[range].iter().enumerate() {
+            let v = v.to_usize();
+            if finish + edge_weight.get(start + offset) == earliest_start[v] && pred[v] == NONE {
+                pred[v] = u;
+            }
+        }
+    }
     let mut path = Vec::new();
     let mut at = end;
     while at != NONE {
         path.push(I::from_usize(at));
-        at = best[at].pred;
+        at = pred[at];
     }
     path.reverse();
 
