@@ -86,10 +86,12 @@ pub fn path_counts<I: Idx>(csr: &Csr<'_, I>, threads: usize) -> Result<Acyclic<C
                 return;
             }
             let mut sum = 0.0;
-            for (e, v) in range.clone().zip(&csr.indices()[range]) {
+            let count = from[u];
+            let row = &csr.indices()[range.clone()];
+            for (slot, v) in through_cells.range_mut(range).iter_mut().zip(row) {
                 let t = to_cells.get(v.to_usize());
                 sum += t;
-                through_cells.set(e, from[u] * t);
+                *slot = count * t;
             }
             to_cells.set(u, sum);
         }

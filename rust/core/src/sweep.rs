@@ -170,6 +170,21 @@ impl<'a, T: Copy> Disjoint<'a, T> {
         *self.start.add(index)
     }
 
+    /// The positions `range`, to fill in.
+    ///
+    /// # Safety
+    /// No other thread may touch `range` while the returned slice lives.
+    #[inline(always)]
+    #[allow(clippy::mut_from_ref)]
+    pub unsafe fn range_mut(&self, range: std::ops::Range<usize>) -> &mut [T] {
+        assert!(
+            range.start <= range.end && range.end <= self.len,
+            "Disjoint range {range:?} out of {}",
+            self.len
+        );
+        std::slice::from_raw_parts_mut(self.start.add(range.start), range.len())
+    }
+
     /// Write `value` at `index`.
     ///
     /// # Safety
