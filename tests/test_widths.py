@@ -45,6 +45,10 @@ CALLS = {
         {k: v for k, v in row.items() if k != "seconds"}
         for row in toporank.compare(g, workers=2, repeat=1).records()
     ],
+    "levels": lambda g: [a.tolist() for a in toporank.levels(g, grouped=True, threads=2)],
+    "heights": lambda g: toporank.heights(g, threads=2).tolist(),
+    "critical_path": lambda g: toporank.critical_path(g, edge_weight="data").path.tolist(),
+    "path_counts": lambda g: toporank.path_counts(g).exact_through_edge.tolist(),
 }
 
 
@@ -56,7 +60,14 @@ def _saved_and_read(matrix):
 
 
 # Public callables that take no graph.
-NOT_GRAPH_FUNCTIONS = {"Graph", "OrderMetrics", "Schedule", "Comparison"}
+NOT_GRAPH_FUNCTIONS = {
+    "Graph",
+    "OrderMetrics",
+    "Schedule",
+    "Comparison",
+    "CriticalPath",
+    "PathCounts",
+}
 
 
 def _public_functions():

@@ -11,22 +11,29 @@ from ._io import GraphFileError, read_graph
 from ._metrics import OrderMetrics, order_metrics
 from ._order import TIES, order, positions, verify_order
 from ._schedule import SCHEDULE_TIES, Schedule, schedule
+from ._sweeps import CriticalPath, PathCounts, critical_path, heights, levels, path_counts
 
 __all__ = [
     "SCHEDULE_TIES",
     "TIES",
     "Comparison",
+    "CriticalPath",
     "CyclicGraphError",
     "Graph",
     "GraphFileError",
     "GraphInputError",
     "InvalidOrderError",
     "OrderMetrics",
+    "PathCounts",
     "Schedule",
     "as_graph",
     "compare",
+    "critical_path",
+    "heights",
+    "levels",
     "order",
     "order_metrics",
+    "path_counts",
     "positions",
     "read_graph",
     "schedule",

@@ -39,3 +39,33 @@ def list_schedule(
 def bottom_levels(
     indptr: np.ndarray, indices: np.ndarray, durations: np.ndarray
 ) -> tuple[Any, Any]: ...
+
+__all__ += ["critical_path", "heights", "levels", "path_counts"]
+
+_Cyclic = tuple[np.ndarray, np.ndarray, np.ndarray] | None
+
+def levels(
+    indptr: np.ndarray, indices: np.ndarray, threads: int = 1, grouped: bool = False
+) -> tuple[_Cyclic, np.ndarray, np.ndarray | None, np.ndarray | None]: ...
+def heights(
+    indptr: np.ndarray, indices: np.ndarray, threads: int = 1
+) -> tuple[_Cyclic, np.ndarray]: ...
+def critical_path(
+    indptr: np.ndarray,
+    indices: np.ndarray,
+    node_weight: np.ndarray | None = None,
+    edge_weight: np.ndarray | None = None,
+    default_edge_weight: float = 1.0,
+    threads: int = 1,
+) -> tuple[_Cyclic, float, np.ndarray, np.ndarray, np.ndarray]: ...
+def path_counts(
+    indptr: np.ndarray, indices: np.ndarray, threads: int = 1
+) -> tuple[
+    _Cyclic,
+    np.ndarray,
+    np.ndarray,
+    np.ndarray,
+    float,
+    tuple[np.ndarray, np.ndarray, np.ndarray, int] | None,
+    tuple[np.ndarray, np.ndarray, np.ndarray, float] | None,
+]: ...

@@ -341,3 +341,57 @@ def as_nodes(graph: Graph, ids: np.ndarray) -> np.ndarray:
     if graph.labels is None:
         return ids
     return graph.labels[ids]
+
+
+def edge_values(graph: Graph, values: Any, name: str, source: Any = None) -> np.ndarray:
+    """Per-edge numbers as a float64 array in stored (CSR) edge order.
+
+    ``values`` follows the package's edge order: the stored order for CSR
+    input (a scipy CSR matrix's ``.data`` order), the input order for edge
+    lists and label pairs, ``.tocoo()`` order for other sparse formats. The
+    string ``"data"`` takes the stored values of ``source``, which must be the
+    scipy sparse matrix the graph was read from. Every value must be finite
+    and non-negative; the first that is not is named by input position and edge.
+    """
+    if isinstance(values, str):
+        if values != "data":
+            raise GraphInputError(f"{name} must be an array of numbers or 'data', got {values!r}")
+        if not _is_sparse(source):
+            raise GraphInputError(
+                f"{name}='data' takes a scipy sparse matrix's stored values, but the graph is a "
+                f"{type(source).__name__}"
+            )
+        values = source.data if source.format == "csr" else source.tocoo().data
+    array = np.asarray(values)
+    if array.ndim != 1 or len(array) != graph.m:
+        raise GraphInputError(
+            f"{name} must be 1-D with one value per edge ({graph.m}), got shape {array.shape}"
+        )
+    if len(array) and array.dtype.kind not in "iuf":
+        raise GraphInputError(f"{name} has dtype {array.dtype}, expected integers or floats")
+    array = np.ascontiguousarray(array, dtype=np.float64)
+    bad = np.flatnonzero(~(np.isfinite(array) & (array >= 0)))
+    positions = graph.edge_input_positions()
+    if len(bad):
+        at = int(bad[0])
+        stored = at if positions is None else int(np.flatnonzero(positions == at)[0])
+        u = int(np.searchsorted(graph.indptr, stored, side="right")) - 1
+        ends = as_nodes(graph, np.array([u, int(graph.indices[stored])]))
+        raise GraphInputError(
+            f"{name}[{at}] = {array[at]} (edge {ends[0]!r} -> {ends[1]!r}); weights must be "
+            "finite and non-negative"
+        )
+    return array if positions is None else array[positions]
+
+
+def node_weights(graph: Graph, values: Any, name: str) -> np.ndarray:
+    """Per-node numbers (array, or mapping for labelled graphs) as finite non-negative float64."""
+    array = node_key(graph, values, name).astype(np.float64, copy=False)
+    bad = np.flatnonzero(~(np.isfinite(array) & (array >= 0)))
+    if len(bad):
+        at = int(bad[0])
+        raise GraphInputError(
+            f"{name}[{at}] = {array[at]}{_label_note(graph, at)}; weights must be finite and "
+            "non-negative"
+        )
+    return np.ascontiguousarray(array)

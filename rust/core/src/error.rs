@@ -28,6 +28,10 @@ pub enum Error {
     DurationOverflow { total_of: usize },
     /// A schedule needs at least one worker.
     NoWorkers,
+    /// A weight is negative, infinite or NaN (shown as formatted).
+    BadWeight { what: &'static str, position: usize, value: String },
+    /// The worker threads could not be started.
+    ThreadPool { threads: usize, reason: String },
 }
 
 impl fmt::Display for Error {
@@ -65,6 +69,12 @@ impl fmt::Display for Error {
                  64-bit integers hold; pass float durations"
             ),
             Error::NoWorkers => write!(f, "workers = 0; a schedule needs at least one worker"),
+            Error::BadWeight { what, position, value } => {
+                write!(f, "{what}[{position}] = {value}; weights must be finite and non-negative")
+            }
+            Error::ThreadPool { threads, reason } => {
+                write!(f, "could not start {threads} worker threads: {reason}")
+            }
         }
     }
 }

@@ -8,15 +8,20 @@
 //! Every failure that input can cause is reported as an [`Error`]; no
 //! function here panics on user data.
 
+pub mod critical;
 pub mod csr;
 pub mod edges;
 pub mod error;
 pub mod heap;
 pub mod index;
 pub mod kahn;
+pub mod levels;
 pub mod metrics;
+pub mod paths;
+pub mod pool;
 pub mod rng;
 pub mod schedule;
+pub mod sweep;
 pub mod verify;
 
 pub use csr::Csr;

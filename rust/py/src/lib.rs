@@ -39,11 +39,13 @@ mod common;
 mod metrics;
 mod order;
 mod schedule;
+mod sweeps;
 
 #[pymodule]
 fn _core(m: &Bound<'_, PyModule>) -> PyResult<()> {
     order::register(m)?;
     metrics::register(m)?;
     schedule::register(m)?;
+    sweeps::register(m)?;
     Ok(())
 }
