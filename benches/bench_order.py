@@ -46,13 +46,15 @@ def test_fifo_vs_bincount(benchmark, citation, ratio_table):
 
 def test_policies_vs_fifo(citation, ratio_table):
     g, year = citation
-    float_year = year.astype(np.float64) + np.linspace(0, 0.5, g.n)
+    float_year = year.astype(np.float64)  # years held as float64, as pandas often gives them
+    fractional = float_year + np.linspace(0, 0.5, g.n)  # distinct non-integral keys
     times = interleaved(
         {
             "fifo": lambda: toporank.order(g),
             "stack": lambda: toporank.order(g, tie="stack"),
             "priority_id": lambda: toporank.order(g, tie="priority"),
             "priority_float": lambda: toporank.order(g, tie="priority", key=float_year),
+            "priority_fractional": lambda: toporank.order(g, tie="priority", key=fractional),
             "priority_int": lambda: toporank.order(g, tie="priority", key=year),
             "random": lambda: toporank.order(g, tie="random", seed=1),
         },

@@ -121,9 +121,17 @@ fn run_policy<I: Idx, C: Count>(csr: &Csr<'_, I>, tie: &Tie<'_>) -> Result<Outco
             run(csr, &mut indegree, &mut order, &mut heap)
         }
         Tie::Priority(Key { values: Some(values), descending }) => {
-            let mut heap =
-                KeyHeap { heap: QuadHeap::new(), values, flip: if descending { !0 } else { 0 } };
-            run(csr, &mut indegree, &mut order, &mut heap)
+            if let Some(mut heap) = PackedKeyHeap::fitting(values, n, descending) {
+                run(csr, &mut indegree, &mut order, &mut heap)
+            } else {
+                let flip = if descending { !0 } else { 0 };
+                run(
+                    csr,
+                    &mut indegree,
+                    &mut order,
+                    &mut KeyHeap { heap: QuadHeap::new(), values, flip },
+                )
+            }
         }
         Tie::Random { seed } => {
             let mut ready = RandomPick { items: Vec::new(), rng: SplitMix64::new(seed) };
@@ -219,6 +227,77 @@ impl<I: Idx> Ready<I> for KeyHeap<'_> {
     #[inline]
     fn peek(&self) -> Option<I> {
         self.heap.peek().map(|entry| I::from_usize(entry as u64 as usize))
+    }
+}
+
+/// Integer-valued keys whose range fits beside the id in 64 bits (years,
+/// counts, small scores: the common case) are packed as
+/// `(key - min) << id_bits | id`: half the heap memory of [`KeyHeap`] and a
+/// single 64-bit comparison.
+struct PackedKeyHeap<'a> {
+    heap: QuadHeap<u64>,
+    values: KeyValues<'a>,
+    /// The key that packs to 0: the minimum, or the maximum when descending.
+    base: i128,
+    descending: bool,
+    id_bits: u32,
+}
+
+impl<'a> PackedKeyHeap<'a> {
+    /// The packed layout for `values`, if every key is an integer (floats
+    /// included, when integral) and the key range fits.
+    fn fitting(values: KeyValues<'a>, n: usize, descending: bool) -> Option<Self> {
+        let id_bits = usize::BITS - n.saturating_sub(1).leading_zeros();
+        let (low, high) = match values {
+            KeyValues::I64(v) => min_max(v.iter().map(|&k| k as i128))?,
+            KeyValues::U64(v) => min_max(v.iter().map(|&k| k as i128))?,
+            KeyValues::F64(v) => {
+                let integral = v.iter().all(|k| k.fract() == 0.0 && k.abs() < 9.0e15);
+                if !integral {
+                    return None;
+                }
+                min_max(v.iter().map(|&k| k as i128))?
+            }
+        };
+        let span = (high - low) as u128;
+        if id_bits >= 64 || span >> (64 - id_bits) != 0 {
+            return None;
+        }
+        let base = if descending { high } else { low };
+        Some(PackedKeyHeap { heap: QuadHeap::new(), values, base, descending, id_bits })
+    }
+
+    #[inline(always)]
+    fn key(&self, node: usize) -> i128 {
+        match self.values {
+            KeyValues::I64(v) => v[node] as i128,
+            KeyValues::U64(v) => v[node] as i128,
+            KeyValues::F64(v) => v[node] as i128,
+        }
+    }
+}
+
+fn min_max(mut keys: impl Iterator<Item = i128>) -> Option<(i128, i128)> {
+    let first = keys.next()?;
+    Some(keys.fold((first, first), |(low, high), k| (low.min(k), high.max(k))))
+}
+
+impl<I: Idx> Ready<I> for PackedKeyHeap<'_> {
+    #[inline]
+    fn push(&mut self, node: I) {
+        let key = self.key(node.to_usize());
+        let offset = if self.descending { self.base - key } else { key - self.base };
+        self.heap.push(((offset as u64) << self.id_bits) | node.to_usize() as u64)
+    }
+    #[inline]
+    fn pop(&mut self) -> Option<I> {
+        let mask = (1u64 << self.id_bits) - 1;
+        self.heap.pop().map(|entry| I::from_usize((entry & mask) as usize))
+    }
+    #[inline]
+    fn peek(&self) -> Option<I> {
+        let mask = (1u64 << self.id_bits) - 1;
+        self.heap.peek().map(|entry| I::from_usize((entry & mask) as usize))
     }
 }
 
@@ -459,6 +538,7 @@ mod tests {
             let (indptr, indices) = random_graph(&mut rng, round % 2 == 0);
             let g = Csr::new(&indptr, &indices).unwrap();
             let n = g.n();
+            // Half-integers take the general key heap; their doubles, the packed one.
             let key: Vec<f64> = (0..n).map(|_| rng.below(4) as f64 - 1.5).collect();
             let ikey: Vec<i64> = key.iter().map(|&k| (k * 2.0) as i64).collect();
 
@@ -483,6 +563,14 @@ mod tests {
             assert_eq!(run(Tie::Priority(f)), by_key_desc);
             let i = Key { values: Some(KeyValues::I64(&ikey)), descending: false };
             assert_eq!(run(Tie::Priority(i)), by_key);
+            let i = Key { values: Some(KeyValues::I64(&ikey)), descending: true };
+            assert_eq!(run(Tie::Priority(i)), by_key_desc);
+            let doubled: Vec<f64> = key.iter().map(|k| k * 2.0).collect();
+            let f = Key { values: Some(KeyValues::F64(&doubled)), descending: true };
+            assert_eq!(run(Tie::Priority(f)), by_key_desc);
+            let wide: Vec<u64> = ikey.iter().map(|&k| (k + 3) as u64 * (1 << 50)).collect();
+            let u = Key { values: Some(KeyValues::U64(&wide)), descending: false };
+            assert_eq!(run(Tie::Priority(u)), by_key, "a range too wide to pack");
 
             let mut pick_rng = SplitMix64::new(99);
             let random =
@@ -560,6 +648,18 @@ mod tests {
         let nan = [1.0, f64::NAN];
         let tie = Tie::Priority(Key { values: Some(KeyValues::F64(&nan)), descending: false });
         assert_eq!(kahn(&g, &tie).unwrap_err(), Error::NanKey { node: 1 });
+    }
+
+    #[test]
+    fn packing_is_used_only_when_the_range_fits() {
+        let years = [1999i64, 2024, 1950];
+        assert!(PackedKeyHeap::fitting(KeyValues::I64(&years), 3, false).is_some());
+        let extremes = [i64::MIN, i64::MAX];
+        assert!(PackedKeyHeap::fitting(KeyValues::I64(&extremes), 2, false).is_none());
+        let fractional = [0.5, 1.0];
+        assert!(PackedKeyHeap::fitting(KeyValues::F64(&fractional), 2, false).is_none());
+        let integral = [-3.0, 1e12, -0.0];
+        assert!(PackedKeyHeap::fitting(KeyValues::F64(&integral), 3, true).is_some());
     }
 
     #[test]
