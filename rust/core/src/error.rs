@@ -35,6 +35,12 @@ pub enum Error {
     },
     /// A float key is NaN.
     NanKey { node: usize },
+    /// A single node argument is not a node of the graph.
+    NoSuchNode {
+        what: &'static str,
+        value: i128,
+        n: usize,
+    },
 }
 
 impl fmt::Display for Error {
@@ -74,6 +80,10 @@ impl fmt::Display for Error {
                 )
             }
             Error::NanKey { node } => write!(f, "key[{node}] is NaN; keys must be comparable"),
+            Error::NoSuchNode { what, value, n } => write!(
+                f,
+                "{what} = {value} is not a node id; ids must lie in 0..{n} (n = {n})"
+            ),
         }
     }
 }

@@ -27,7 +27,7 @@ pub enum KeyValues<'a> {
 }
 
 impl KeyValues<'_> {
-    fn len(&self) -> usize {
+    pub(crate) fn len(&self) -> usize {
         match self {
             KeyValues::I64(v) => v.len(),
             KeyValues::U64(v) => v.len(),
@@ -37,7 +37,7 @@ impl KeyValues<'_> {
 
     /// The key mapped to a `u64` whose unsigned order is the key's order.
     #[inline(always)]
-    fn rank(&self, node: usize) -> u64 {
+    pub(crate) fn rank(&self, node: usize) -> u64 {
         match self {
             KeyValues::I64(v) => (v[node] as u64) ^ (1 << 63),
             KeyValues::U64(v) => v[node],
@@ -166,7 +166,7 @@ pub fn kahn<I: Idx>(csr: &Csr<'_, I>, tie: &Tie<'_>) -> Result<Outcome<I>, Error
     })
 }
 
-fn check_key(values: &KeyValues<'_>, n: usize) -> Result<(), Error> {
+pub(crate) fn check_key(values: &KeyValues<'_>, n: usize) -> Result<(), Error> {
     if values.len() != n {
         return Err(Error::LengthMismatch {
             what: "key",

@@ -8,13 +8,17 @@
 //! Every failure that input can cause is reported as an [`Error`]; no
 //! function here panics on user data.
 
+pub mod condense;
 pub mod csr;
+pub mod cut;
 pub mod edges;
 pub mod error;
 pub mod index;
 pub mod kahn;
 pub mod rng;
+pub mod scc;
 pub mod verify;
+pub mod witness;
 
 pub use csr::Csr;
 pub use error::Error;
