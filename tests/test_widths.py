@@ -34,9 +34,13 @@ CALLS = {
     "order": lambda g: toporank.order(g, tie="priority").tolist(),
     "positions": lambda g: toporank.positions(toporank.order(g)).tolist(),
     "verify_order": lambda g: toporank.verify_order(g, toporank.order(g)),
+    "components": lambda g: toporank.components(g).tolist(),
+    "condense": lambda g: toporank.condense(g).dag.toarray().tolist(),
+    "cycle_witness": lambda g: toporank.cycle_witness(g, through=1),
+    "cut_cycles": lambda g: toporank.cut_cycles(g).order.tolist(),
 }
 # Public callables that take no graph.
-NOT_GRAPH_FUNCTIONS = {"Graph"}
+NOT_GRAPH_FUNCTIONS = {"Graph", "Condensation", "CycleCut"}
 
 
 def _public_functions():

@@ -38,10 +38,12 @@ macro_rules! with_index_width {
 }
 
 mod common;
+mod cycles;
 mod order;
 
 #[pymodule]
 fn _core(m: &Bound<'_, PyModule>) -> PyResult<()> {
     order::register(m)?;
+    cycles::register(m)?;
     Ok(())
 }
