@@ -22,12 +22,15 @@ use std::collections::BinaryHeap;
 
 use crate::kahn::check_key;
 use crate::rng::SplitMix64;
-use crate::scc::strong_components;
+use crate::scc::strong_components_with_entries;
 use crate::{Csr, Error, Idx, Key, Tie};
 
-/// The ready set of one policy, holding component numbers.
+/// The ready set of one policy. An item is a component's representative
+/// node `r` tagged as `2 r + 1` when the component has several members and
+/// `2 r` when it is that node alone, so a lone node is emitted without
+/// looking anything up.
 trait Ready {
-    fn push(&mut self, component: usize);
+    fn push(&mut self, item: usize);
     fn pop(&mut self) -> Option<usize>;
 }
 
@@ -38,8 +41,8 @@ struct Fifo {
 
 impl Ready for Fifo {
     #[inline]
-    fn push(&mut self, component: usize) {
-        self.items.push(component)
+    fn push(&mut self, item: usize) {
+        self.items.push(item)
     }
     #[inline]
     fn pop(&mut self) -> Option<usize> {
@@ -51,8 +54,8 @@ impl Ready for Fifo {
 
 impl Ready for Vec<usize> {
     #[inline]
-    fn push(&mut self, component: usize) {
-        Vec::push(self, component)
+    fn push(&mut self, item: usize) {
+        Vec::push(self, item)
     }
     #[inline]
     fn pop(&mut self) -> Option<usize> {
@@ -60,24 +63,21 @@ impl Ready for Vec<usize> {
     }
 }
 
-/// Smallest (rank, representative) first.
-struct ByRank<'a, I> {
+/// Smallest (rank, representative) first; the tag does not change the
+/// order of distinct representatives.
+struct ByRank<'a> {
     heap: BinaryHeap<Reverse<(u64, usize)>>,
     rank: &'a dyn Fn(usize) -> u64,
-    first: &'a [I],
-    labels: &'a [I],
 }
 
-impl<I: Idx> Ready for ByRank<'_, I> {
+impl Ready for ByRank<'_> {
     #[inline]
-    fn push(&mut self, component: usize) {
-        let node = self.first[component].to_usize();
-        self.heap.push(Reverse(((self.rank)(node), node)))
+    fn push(&mut self, item: usize) {
+        self.heap.push(Reverse(((self.rank)(item >> 1), item)))
     }
     #[inline]
     fn pop(&mut self) -> Option<usize> {
-        let Reverse((_, node)) = self.heap.pop()?;
-        Some(self.labels[node].to_usize())
+        self.heap.pop().map(|Reverse((_, item))| item)
     }
 }
 
@@ -89,8 +89,8 @@ struct RandomPick {
 
 impl Ready for RandomPick {
     #[inline]
-    fn push(&mut self, component: usize) {
-        self.items.push(component)
+    fn push(&mut self, item: usize) {
+        self.items.push(item)
     }
     #[inline]
     fn pop(&mut self) -> Option<usize> {
@@ -99,6 +99,36 @@ impl Ready for RandomPick {
         }
         let pick = self.rng.below(self.items.len() as u64) as usize;
         Some(self.items.swap_remove(pick))
+    }
+}
+
+/// A per-node count of edges still to come, stored doubled with the low bit
+/// marking members of multi-node components. u32 halves the memory traffic
+/// whenever the edge count allows.
+trait Counter: Copy + Send {
+    fn new(value: usize) -> Self;
+    fn get(self) -> usize;
+}
+
+impl Counter for u32 {
+    #[inline(always)]
+    fn new(value: usize) -> Self {
+        value as u32
+    }
+    #[inline(always)]
+    fn get(self) -> usize {
+        self as usize
+    }
+}
+
+impl Counter for u64 {
+    #[inline(always)]
+    fn new(value: usize) -> Self {
+        value as u64
+    }
+    #[inline(always)]
+    fn get(self) -> usize {
+        self as usize
     }
 }
 
@@ -116,10 +146,25 @@ pub fn condensed_order<I: Idx>(csr: &Csr<'_, I>, tie: &Tie<'_>) -> Result<Vec<I>
     {
         check_key(values, n)?;
     }
-    let components = strong_components(csr)?;
-    let labels = &components.labels;
-    let count = components.count;
+    let (components, entered) = strong_components_with_entries(csr)?;
+    if 2 * csr.m() < u32::MAX as usize {
+        run_policy::<I, u32>(csr, tie, components.labels, components.count, entered)
+    } else {
+        run_policy::<I, u64>(csr, tie, components.labels, components.count, entered)
+    }
+}
+
+fn run_policy<I: Idx, W: Counter>(
+    csr: &Csr<'_, I>,
+    tie: &Tie<'_>,
+    labels: Vec<I>,
+    count: usize,
+    entered: Vec<I>,
+) -> Result<Vec<I>, Error> {
+    let n = csr.n();
+    let components = crate::scc::Components { labels, count };
     let (start, mut members) = components.members();
+    let labels = components.labels;
 
     let rank = |node: usize| -> u64 {
         match tie {
@@ -134,23 +179,17 @@ pub fn condensed_order<I: Idx>(csr: &Csr<'_, I>, tie: &Tie<'_>) -> Result<Vec<I>
             _ => node as u64,
         }
     };
-    if let Tie::Priority(_) = tie {
-        for c in 0..count {
-            let block = &mut members[start[c]..start[c + 1]];
-            if block.len() > 1 {
+    let mut waiting: Vec<W> = entered.iter().map(|e| W::new(2 * e.to_usize())).collect();
+    drop(entered);
+    for c in 0..count {
+        let block = &mut members[start[c]..start[c + 1]];
+        if block.len() > 1 {
+            if let Tie::Priority(_) = tie {
                 block.sort_unstable_by_key(|v| (rank(v.to_usize()), *v));
             }
-        }
-    }
-
-    let mut waiting: Vec<I> = vec![I::default(); count];
-    for u in 0..n {
-        let c = labels[u];
-        for &v in csr.row(u) {
-            let d = labels[v.to_usize()];
-            if d != c {
-                let slot = &mut waiting[d.to_usize()];
-                *slot = I::from_usize(slot.to_usize() + 1);
+            for v in block.iter() {
+                let slot = &mut waiting[v.to_usize()];
+                *slot = W::new(slot.get() | 1);
             }
         }
     }
@@ -158,7 +197,7 @@ pub fn condensed_order<I: Idx>(csr: &Csr<'_, I>, tie: &Tie<'_>) -> Result<Vec<I>
     let mut order = Vec::with_capacity(n);
     let emit = Emit {
         csr,
-        labels,
+        labels: &labels,
         start: &start,
         members: &members,
     };
@@ -173,12 +212,9 @@ pub fn condensed_order<I: Idx>(csr: &Csr<'_, I>, tie: &Tie<'_>) -> Result<Vec<I>
         ),
         Tie::Stack => emit.run(&mut waiting, &mut Vec::new(), &mut order),
         Tie::Priority(_) => {
-            let first: Vec<I> = (0..count).map(|c| members[start[c]]).collect();
             let mut ready = ByRank {
                 heap: BinaryHeap::new(),
                 rank: &rank,
-                first: &first,
-                labels,
             };
             emit.run(&mut waiting, &mut ready, &mut order)
         }
@@ -203,31 +239,72 @@ struct Emit<'a, 'g, I: Idx> {
 }
 
 impl<I: Idx> Emit<'_, '_, I> {
-    /// Kahn's loop over components; `waiting[c]` counts the edges into `c`
-    /// from other components not yet examined.
-    fn run<R: Ready>(&self, waiting: &mut [I], ready: &mut R, order: &mut Vec<I>) {
-        // Ascending representative id: the first member of a component.
-        for (u, &c) in self.labels.iter().enumerate() {
-            let c = c.to_usize();
-            if waiting[c].to_usize() == 0 && self.members[self.start[c]].to_usize() == u {
-                ready.push(c);
+    /// Kahn's loop over components. `waiting[v] >> 1` counts the edges into
+    /// node `v` from other components not yet examined, and a component is
+    /// ready once all its members are at zero. An edge whose target is at
+    /// zero already lies inside the component being emitted (its members
+    /// were all at zero when it became ready), so edges need no label lookup.
+    fn run<W: Counter, R: Ready>(&self, waiting: &mut [W], ready: &mut R, order: &mut Vec<I>) {
+        let count = self.start.len() - 1;
+        // pending[c]: members of a multi-node component c still waiting.
+        let mut pending = vec![0usize; count];
+        for (v, w) in waiting.iter().enumerate() {
+            if w.get() > 1 && w.get() & 1 == 1 {
+                pending[self.labels[v].to_usize()] += 1;
             }
         }
-        while let Some(c) = ready.pop() {
-            let block = &self.members[self.start[c]..self.start[c + 1]];
-            order.extend_from_slice(block);
-            for &u in block {
-                for &v in self.csr.row(u.to_usize()) {
-                    let d = self.labels[v.to_usize()].to_usize();
-                    if d == c {
-                        continue;
-                    }
-                    let slot = &mut waiting[d];
-                    let left = slot.to_usize() - 1;
-                    *slot = I::from_usize(left);
-                    if left == 0 {
-                        ready.push(d);
-                    }
+        // Ascending representative id (the first member of a component).
+        for (u, w) in waiting.iter().enumerate() {
+            let w = w.get();
+            if w == 0 {
+                ready.push(2 * u);
+            } else if w == 1 {
+                let c = self.labels[u].to_usize();
+                if pending[c] == 0 && self.members[self.start[c]].to_usize() == u {
+                    ready.push(2 * u + 1);
+                }
+            }
+        }
+        while let Some(item) = ready.pop() {
+            if item & 1 == 0 {
+                let u = item >> 1;
+                order.push(I::from_usize(u));
+                self.examine(u, waiting, &mut pending, ready);
+            } else {
+                let c = self.labels[item >> 1].to_usize();
+                let block = &self.members[self.start[c]..self.start[c + 1]];
+                order.extend_from_slice(block);
+                for &u in block {
+                    self.examine(u.to_usize(), waiting, &mut pending, ready);
+                }
+            }
+        }
+    }
+
+    /// Examine the successors of an emitted node in stored row order.
+    #[inline(always)]
+    fn examine<W: Counter, R: Ready>(
+        &self,
+        u: usize,
+        waiting: &mut [W],
+        pending: &mut [usize],
+        ready: &mut R,
+    ) {
+        for &v in self.csr.row(u) {
+            let v = v.to_usize();
+            let left = waiting[v].get();
+            if left < 2 {
+                continue;
+            }
+            let left = left - 2;
+            waiting[v] = W::new(left);
+            if left == 0 {
+                ready.push(2 * v);
+            } else if left == 1 {
+                let d = self.labels[v].to_usize();
+                pending[d] -= 1;
+                if pending[d] == 0 {
+                    ready.push(2 * self.members[self.start[d]].to_usize() + 1);
                 }
             }
         }
@@ -239,6 +316,7 @@ mod tests {
     use super::*;
     use crate::edges::edges_to_csr;
     use crate::kahn::kahn;
+    use crate::scc::strong_components;
     use crate::scc::tests::random_csr;
     use crate::KeyValues;
 

@@ -52,22 +52,97 @@ impl<I: Idx> Components<I> {
     }
 }
 
-/// One node on the explicit depth-first path: the node and the next and end
-/// positions of its CSR row still to scan.
+/// One node on the explicit depth-first path: the node, the next and end
+/// positions of its CSR row still to scan, and whether it is still the root
+/// of its component (nothing it reaches has a smaller index). The flag lives
+/// here because it is only needed while the node is on the path.
 #[derive(Clone, Copy)]
 struct Frame<I> {
     node: I,
     next: I,
     end: I,
+    root: bool,
 }
 
 /// The strongly connected components of `csr`, numbered topologically.
 ///
 /// Depth-first search starts from nodes in ascending id and follows edges in
 /// stored order, so the numbering is deterministic. O(V + E) time; besides
-/// the result, memory is one byte per node plus the depth-first path and the
-/// component stack (each at most `n` entries).
+/// the result, memory is the depth-first path and the component stack (each
+/// at most `n` entries).
 pub fn strong_components<I: Idx>(csr: &Csr<'_, I>) -> Result<Components<I>, Error> {
+    let (mut rindex, shift, count) = search::<I, I>(csr)?;
+    for label in rindex.iter_mut() {
+        *label = I::from_usize(label.to_usize() - shift);
+    }
+    Ok(Components {
+        labels: rindex,
+        count,
+    })
+}
+
+/// [`strong_components`], plus for each node the number of edges that enter
+/// it from other components (parallel edges counted), found during the same
+/// search.
+pub fn strong_components_with_entries<I: Idx>(
+    csr: &Csr<'_, I>,
+) -> Result<(Components<I>, Vec<I>), Error> {
+    let (slots, shift, count) = search::<I, Counted<I>>(csr)?;
+    let labels = slots
+        .iter()
+        .map(|s| I::from_usize(s.rindex.to_usize() - shift))
+        .collect();
+    let entered = slots.iter().map(|s| s.entered).collect();
+    Ok((Components { labels, count }, entered))
+}
+
+/// What the search keeps per node: the `rindex` value, and for
+/// [`Counted`] also the edges entering from other components, side by side
+/// so that one memory access serves both.
+trait Slot<I>: Copy + Default {
+    fn rindex(&self) -> I;
+    fn set_rindex(&mut self, value: I);
+    /// One more edge enters this node from a finished component.
+    fn enter(&mut self);
+}
+
+impl<I: Idx> Slot<I> for I {
+    #[inline(always)]
+    fn rindex(&self) -> I {
+        *self
+    }
+    #[inline(always)]
+    fn set_rindex(&mut self, value: I) {
+        *self = value
+    }
+    #[inline(always)]
+    fn enter(&mut self) {}
+}
+
+#[derive(Clone, Copy, Default)]
+struct Counted<I> {
+    rindex: I,
+    entered: I,
+}
+
+impl<I: Idx> Slot<I> for Counted<I> {
+    #[inline(always)]
+    fn rindex(&self) -> I {
+        self.rindex
+    }
+    #[inline(always)]
+    fn set_rindex(&mut self, value: I) {
+        self.rindex = value
+    }
+    #[inline(always)]
+    fn enter(&mut self) {
+        self.entered = I::from_usize(self.entered.to_usize() + 1)
+    }
+}
+
+/// Pearce's search. Returns the per-node slots, where a finished node's
+/// `rindex` is its component number plus `shift`, and the component count.
+fn search<I: Idx, S: Slot<I>>(csr: &Csr<'_, I>) -> Result<(Vec<S>, usize, usize), Error> {
     csr.check_indices()?;
     let n = csr.n();
     if n > I::MAX_USIZE {
@@ -79,94 +154,94 @@ pub fn strong_components<I: Idx>(csr: &Csr<'_, I>) -> Result<Components<I>, Erro
     }
     let indptr = csr.indptr();
     let indices = csr.indices();
-    // rindex[v] == 0: not visited; 1..: visit index, lowered to the smallest
-    // index reachable (the low link) while v is open; once v's component is
-    // complete, a component number counted down from n - 1. Open indices
-    // never reach a finished component's number (Pearce's invariant), so one
-    // comparison serves both cases.
-    let mut rindex: Vec<I> = vec![I::default(); n];
-    let mut root = vec![false; n];
+    // rindex == 0: not visited; 1..: visit index, lowered to the smallest
+    // index reachable (the low link) while the node is open; once its
+    // component is complete, a component number counted down from n. Open
+    // indices stay at most `component` and finished numbers above it
+    // (Pearce's invariant, with the count starting one higher than in the
+    // paper so the two ranges never touch), so comparisons tell them apart.
+    let mut slots: Vec<S> = vec![S::default(); n];
     let mut path: Vec<Frame<I>> = Vec::new();
     let mut open: Vec<I> = Vec::new();
     let mut index: usize = 1;
-    let mut component = n.wrapping_sub(1);
+    let mut component = n;
 
     for start in 0..n {
-        if rindex[start].to_usize() != 0 {
+        if slots[start].rindex().to_usize() != 0 {
             continue;
         }
-        rindex[start] = I::from_usize(index);
+        slots[start].set_rindex(I::from_usize(index));
         index += 1;
-        root[start] = true;
         path.push(Frame {
             node: I::from_usize(start),
             next: indptr[start],
             end: indptr[start + 1],
+            root: true,
         });
         'path: while let Some(frame) = path.last_mut() {
             let v = frame.node.to_usize();
-            let mut low = rindex[v];
+            let mut low = slots[v].rindex();
             let (mut next, end) = (frame.next.to_usize(), frame.end.to_usize());
             while next < end {
                 let w = indices[next].to_usize();
                 next += 1;
-                let rw = rindex[w];
+                let slot = &mut slots[w];
+                let rw = slot.rindex();
                 if rw.to_usize() == 0 {
                     frame.next = I::from_usize(next);
-                    rindex[v] = low;
-                    rindex[w] = I::from_usize(index);
+                    slot.set_rindex(I::from_usize(index));
+                    slots[v].set_rindex(low);
                     index += 1;
-                    root[w] = true;
                     path.push(Frame {
                         node: I::from_usize(w),
                         next: indptr[w],
                         end: indptr[w + 1],
+                        root: true,
                     });
                     continue 'path;
                 }
                 if rw < low {
                     low = rw;
-                    root[v] = false;
+                    frame.root = false;
+                } else if rw.to_usize() > component {
+                    slot.enter();
                 }
             }
+            let is_root = frame.root;
             path.pop();
-            if root[v] {
+            if is_root {
                 index -= 1;
                 while let Some(&w) = open.last() {
-                    if low > rindex[w.to_usize()] {
+                    let w = w.to_usize();
+                    if low > slots[w].rindex() {
                         break;
                     }
                     open.pop();
-                    rindex[w.to_usize()] = I::from_usize(component);
+                    slots[w].set_rindex(I::from_usize(component));
                     index -= 1;
                 }
                 low = I::from_usize(component);
-                component = component.wrapping_sub(1);
+                component -= 1;
             } else {
                 open.push(I::from_usize(v));
             }
-            rindex[v] = low;
-            if let Some(parent) = path.last() {
+            slots[v].set_rindex(low);
+            if let Some(parent) = path.last_mut() {
                 let p = parent.node.to_usize();
-                if low < rindex[p] {
-                    rindex[p] = low;
-                    root[p] = false;
+                if low < slots[p].rindex() {
+                    slots[p].set_rindex(low);
+                    parent.root = false;
+                } else if low.to_usize() > component {
+                    // The tree edge p -> v enters v's finished component.
+                    slots[v].enter();
                 }
             }
         }
     }
-    // Components were numbered n - 1, n - 2, ... in completion order, and a
+    // Components were numbered n, n - 1, ... in completion order, and a
     // component completes only after every component it reaches: shifting
     // to 0.. gives a topological numbering.
-    let count = n.wrapping_sub(1).wrapping_sub(component);
-    let shift = n - count;
-    for label in rindex.iter_mut() {
-        *label = I::from_usize(label.to_usize() - shift);
-    }
-    Ok(Components {
-        labels: rindex,
-        count,
-    })
+    Ok((slots, component + 1, n - component))
 }
 
 /// The condensation of a graph: one node per component, one edge per
@@ -329,6 +404,20 @@ pub(crate) mod tests {
                     assert!(comps.labels[u] <= comps.labels[v as usize]);
                 }
             }
+            let (again, entries) = strong_components_with_entries(&g).unwrap();
+            assert_eq!(again, comps);
+            let mut expected = vec![0i64; n];
+            for u in 0..n {
+                for &v in g.row(u) {
+                    if comps.labels[u] != comps.labels[v as usize] {
+                        expected[v as usize] += 1;
+                    }
+                }
+            }
+            assert_eq!(
+                entries, expected,
+                "edges entering each node from other components"
+            );
             let mut seen = comps.labels.clone();
             seen.sort();
             seen.dedup();
