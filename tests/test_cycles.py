@@ -85,8 +85,27 @@ def test_ten_million_node_path_and_ring():
     labels = toporank.components(toporank.Graph.from_csr(indptr, indices))
     assert labels.dtype == np.int32
     assert np.array_equal(labels, np.arange(n, dtype=np.int32))
+    # Walked from its far end, the search goes ten million nodes deep.
+    back = toporank.Graph.from_csr(
+        np.maximum(np.arange(n + 1, dtype=np.int32) - 1, 0), np.arange(n - 1, dtype=np.int32)
+    )
+    assert np.array_equal(toporank.components(back), np.arange(n - 1, -1, -1, dtype=np.int32))
     ring = toporank.Graph.from_csr(np.arange(n + 1, dtype=np.int32), np.roll(np.arange(n), -1))
     assert not toporank.components(ring).any()
+
+
+def test_empty_and_isolated_nodes():
+    none = (np.zeros(0, np.int64), np.zeros(0, np.int64))
+    assert toporank.components(none).tolist() == []
+    # No edges: each node its own component, numbered by id (common practice).
+    assert toporank.components(none, n=3).tolist() == [0, 1, 2]
+    cond = toporank.condense(none, n=3)
+    assert cond.dag.shape == (3, 3) and cond.dag.nnz == 0
+    assert toporank.cycle_witness(none, n=3) is None
+    cut = toporank.cut_cycles(none, n=3)
+    assert len(cut) == 0 and cut.order.tolist() == [0, 1, 2]
+    for mode in ("condense", "cut"):
+        assert toporank.order(none, n=3, on_cycle=mode).tolist() == [0, 1, 2]
 
 
 def test_self_loop_is_a_one_node_cycle_everywhere():

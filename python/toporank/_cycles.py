@@ -33,8 +33,9 @@ def components(graph: Any, *, n: int | None = None) -> np.ndarray:
     from 0 to (number of components) - 1 in a topological order of the
     condensation: every edge ``u -> v`` has ``labels[u] <= labels[v]``, with
     equality exactly for edges inside a component. The numbering is
-    deterministic (depth-first search from nodes in ascending id, edges in
-    stored order).
+    deterministic (depth-first search from nodes in descending id, edges in
+    stored order); nodes joined by no path, such as isolated nodes, keep
+    their id order.
 
     Parameters
     ----------

@@ -66,8 +66,9 @@ struct Frame<I> {
 
 /// The strongly connected components of `csr`, numbered topologically.
 ///
-/// Depth-first search starts from nodes in ascending id and follows edges in
-/// stored order, so the numbering is deterministic. O(V + E) time; besides
+/// Depth-first search starts from nodes in descending id (so that nodes
+/// joined by no path keep their id order, isolated nodes in particular) and
+/// follows edges in stored order, so the numbering is deterministic. O(V + E) time; besides
 /// the result, memory is the depth-first path and the component stack (each
 /// at most `n` entries).
 pub fn strong_components<I: Idx>(csr: &Csr<'_, I>) -> Result<Components<I>, Error> {
@@ -166,7 +167,7 @@ fn search<I: Idx, S: Slot<I>>(csr: &Csr<'_, I>) -> Result<(Vec<S>, usize, usize)
     let mut index: usize = 1;
     let mut component = n;
 
-    for start in 0..n {
+    for start in (0..n).rev() {
         if slots[start].rindex().to_usize() != 0 {
             continue;
         }
@@ -440,6 +441,17 @@ pub(crate) mod tests {
             .iter()
             .enumerate()
             .all(|(v, &l)| l as usize == v));
+        // The same path walked from its far end: the search goes n deep.
+        let indices: Vec<i32> = (0..n - 1).map(|v| v as i32).collect();
+        let indptr: Vec<i32> = (0..=n).map(|u| u.saturating_sub(1) as i32).collect();
+        let back = Csr::new(&indptr, &indices).unwrap();
+        let comps = strong_components(&back).unwrap();
+        assert_eq!(comps.count, n);
+        assert!(comps
+            .labels
+            .iter()
+            .enumerate()
+            .all(|(v, &l)| l as usize == n - 1 - v));
 
         let indptr: Vec<i32> = (0..=n).map(|u| u as i32).collect();
         let indices: Vec<i32> = (1..=n).map(|v| (v % n) as i32).collect();
