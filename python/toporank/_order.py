@@ -61,11 +61,13 @@ def order(
         ``"raise"`` raises :class:`CyclicGraphError` for a graph with a cycle;
         ``"partial"`` returns the nodes ordered before the ready set ran dry;
         ``"condense"`` returns every node, each strongly connected component
-        as a contiguous block (members in ascending id, or ascending ``key``
-        for ``tie="priority"``), the blocks in Kahn's order of the
-        condensation under ``tie`` (a component ranks by its first member);
+        as a contiguous block (members in ascending id; for ``tie="priority"``
+        in key order, ties to the smaller id), the blocks in Kahn's order of
+        the condensation under ``tie`` (a block ranks as its first member);
         ``"cut"`` removes the edges :func:`toporank.cut_cycles` finds and
-        orders what remains under ``tie``. On a DAG both equal ``"raise"``.
+        orders what remains under ``tie``. On a DAG both give the same order
+        as ``"raise"``. See :func:`toporank.condense` and
+        :func:`toporank.cut_cycles`.
     n
         Node count for the edge-array forms (to include isolated nodes whose
         ids exceed every edge's); default ``max id + 1``.
