@@ -49,6 +49,10 @@ CALLS = {
     "heights": lambda g: toporank.heights(g, threads=2).tolist(),
     "critical_path": lambda g: toporank.critical_path(g, edge_weight="data").path.tolist(),
     "path_counts": lambda g: toporank.path_counts(g).exact_through_edge.tolist(),
+    "components": lambda g: toporank.components(g).tolist(),
+    "condense": lambda g: toporank.condense(g).dag.toarray().tolist(),
+    "cycle_witness": lambda g: toporank.cycle_witness(g, through=1),
+    "cut_cycles": lambda g: toporank.cut_cycles(g).order.tolist(),
 }
 
 
@@ -67,6 +71,8 @@ NOT_GRAPH_FUNCTIONS = {
     "Comparison",
     "CriticalPath",
     "PathCounts",
+    "Condensation",
+    "CycleCut",
 }
 
 

@@ -5,6 +5,7 @@ compiled core with the GIL released. Start with :func:`order`.
 """
 
 from ._compare import Comparison, compare
+from ._cycles import Condensation, CycleCut, components, condense, cut_cycles, cycle_witness
 from ._errors import CyclicGraphError, GraphInputError, InvalidOrderError
 from ._graph import Graph, as_graph
 from ._io import GraphFileError, read_graph
@@ -17,7 +18,9 @@ __all__ = [
     "SCHEDULE_TIES",
     "TIES",
     "Comparison",
+    "Condensation",
     "CriticalPath",
+    "CycleCut",
     "CyclicGraphError",
     "Graph",
     "GraphFileError",
@@ -28,7 +31,11 @@ __all__ = [
     "Schedule",
     "as_graph",
     "compare",
+    "components",
+    "condense",
     "critical_path",
+    "cut_cycles",
+    "cycle_witness",
     "heights",
     "levels",
     "order",

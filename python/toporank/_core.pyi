@@ -69,3 +69,37 @@ def path_counts(
     tuple[np.ndarray, np.ndarray, np.ndarray, int] | None,
     tuple[np.ndarray, np.ndarray, np.ndarray, float] | None,
 ]: ...
+
+__all__ += [
+    "condensation",
+    "condensed_order",
+    "cut_cycles",
+    "cut_order",
+    "cycle_witness",
+    "strong_components",
+]
+
+def strong_components(indptr: np.ndarray, indices: np.ndarray) -> tuple[np.ndarray, int]: ...
+def condensation(
+    indptr: np.ndarray, indices: np.ndarray
+) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray, np.ndarray]: ...
+def condensed_order(
+    indptr: np.ndarray,
+    indices: np.ndarray,
+    tie: str,
+    key: np.ndarray | None = None,
+    descending: bool = False,
+    seed: int = 0,
+) -> np.ndarray: ...
+def cut_order(
+    indptr: np.ndarray,
+    indices: np.ndarray,
+    tie: str,
+    key: np.ndarray | None = None,
+    descending: bool = False,
+    seed: int = 0,
+) -> np.ndarray: ...
+def cycle_witness(
+    indptr: np.ndarray, indices: np.ndarray, through: int | None = None
+) -> np.ndarray | None: ...
+def cut_cycles(indptr: np.ndarray, indices: np.ndarray) -> tuple[np.ndarray, np.ndarray]: ...

@@ -16,7 +16,7 @@ __all__ = ["TIES", "order", "positions", "verify_order"]
 TIES = ("queue", "stack", "priority", "random")
 """The tie-break policies of :func:`order`."""
 
-ON_CYCLE = ("raise", "partial")
+ON_CYCLE = ("raise", "partial", "condense", "cut")
 
 Tie = Literal["queue", "stack", "priority", "random"]
 
@@ -28,7 +28,7 @@ def order(
     key: Any = None,
     descending: bool = False,
     seed: int | None = None,
-    on_cycle: Literal["raise", "partial"] = "raise",
+    on_cycle: Literal["raise", "partial", "condense", "cut"] = "raise",
     n: int | None = None,
 ) -> np.ndarray:
     """Return a topological order of ``graph`` computed by Kahn's algorithm.
@@ -59,7 +59,15 @@ def order(
         same order. ``None`` draws fresh entropy, so runs differ.
     on_cycle
         ``"raise"`` raises :class:`CyclicGraphError` for a graph with a cycle;
-        ``"partial"`` returns the nodes ordered before the ready set ran dry.
+        ``"partial"`` returns the nodes ordered before the ready set ran dry;
+        ``"condense"`` returns every node, each strongly connected component
+        as a contiguous block (members in ascending id; for ``tie="priority"``
+        in key order, ties to the smaller id), the blocks in Kahn's order of
+        the condensation under ``tie`` (a block ranks as its first member);
+        ``"cut"`` removes the edges :func:`toporank.cut_cycles` finds and
+        orders what remains under ``tie``. On a DAG both give the same order
+        as ``"raise"``. See :func:`toporank.condense` and
+        :func:`toporank.cut_cycles`.
     n
         Node count for the edge-array forms (to include isolated nodes whose
         ids exceed every edge's); default ``max id + 1``.
@@ -105,6 +113,11 @@ def order(
     key_array, seed_value = _policy_arguments(g, tie, key, descending, seed)
     if on_cycle not in ON_CYCLE:
         raise GraphInputError(f"on_cycle must be one of {ON_CYCLE}, got {on_cycle!r}")
+    if on_cycle in ("condense", "cut"):
+        from ._cycles import ordered_despite_cycles
+
+        ids = ordered_despite_cycles(g, on_cycle, tie, key_array, bool(descending), seed_value)
+        return as_nodes(g, ids)
     emitted, blocked, cycle = _core.kahn_order(
         g.indptr, g.indices, tie, key_array, bool(descending), seed_value
     )

@@ -32,6 +32,8 @@ pub enum Error {
     BadWeight { what: &'static str, position: usize, value: String },
     /// The worker threads could not be started.
     ThreadPool { threads: usize, reason: String },
+    /// A single node argument is not a node of the graph.
+    NoSuchNode { what: &'static str, value: i128, n: usize },
 }
 
 impl fmt::Display for Error {
@@ -74,6 +76,9 @@ impl fmt::Display for Error {
             }
             Error::ThreadPool { threads, reason } => {
                 write!(f, "could not start {threads} worker threads: {reason}")
+            }
+            Error::NoSuchNode { what, value, n } => {
+                write!(f, "{what} = {value} is not a node id; ids must lie in 0..{n} (n = {n})")
             }
         }
     }

@@ -26,7 +26,7 @@ pub enum KeyValues<'a> {
 }
 
 impl KeyValues<'_> {
-    fn len(&self) -> usize {
+    pub(crate) fn len(&self) -> usize {
         match self {
             KeyValues::I64(v) => v.len(),
             KeyValues::U64(v) => v.len(),
@@ -36,7 +36,7 @@ impl KeyValues<'_> {
 
     /// The key mapped to a `u64` whose unsigned order is the key's order.
     #[inline(always)]
-    fn rank(&self, node: usize) -> u64 {
+    pub(crate) fn rank(&self, node: usize) -> u64 {
         match self {
             KeyValues::I64(v) => (v[node] as u64) ^ (1 << 63),
             KeyValues::U64(v) => v[node],
@@ -146,7 +146,7 @@ fn run_policy<I: Idx, C: Count>(csr: &Csr<'_, I>, tie: &Tie<'_>) -> Result<Outco
     Ok(Outcome { order, blocked, cycle })
 }
 
-fn check_key(values: &KeyValues<'_>, n: usize) -> Result<(), Error> {
+pub(crate) fn check_key(values: &KeyValues<'_>, n: usize) -> Result<(), Error> {
     if values.len() != n {
         return Err(Error::LengthMismatch { what: "key", expected: n, got: values.len() });
     }

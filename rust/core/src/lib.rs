@@ -8,8 +8,10 @@
 //! Every failure that input can cause is reported as an [`Error`]; no
 //! function here panics on user data.
 
+pub mod condense;
 pub mod critical;
 pub mod csr;
+pub mod cut;
 pub mod edges;
 pub mod error;
 pub mod heap;
@@ -20,9 +22,11 @@ pub mod metrics;
 pub mod paths;
 pub mod pool;
 pub mod rng;
+pub mod scc;
 pub mod schedule;
 pub mod sweep;
 pub mod verify;
+pub mod witness;
 
 pub use csr::Csr;
 pub use error::Error;

@@ -36,6 +36,7 @@ macro_rules! with_index_width {
 }
 
 mod common;
+mod cycles;
 mod metrics;
 mod order;
 mod schedule;
@@ -47,5 +48,6 @@ fn _core(m: &Bound<'_, PyModule>) -> PyResult<()> {
     metrics::register(m)?;
     schedule::register(m)?;
     sweeps::register(m)?;
+    cycles::register(m)?;
     Ok(())
 }

@@ -9,14 +9,14 @@ use toporank_core::{edges, kahn, verify, Csr, Key, KeyValues, Tie};
 
 use crate::common::{compute, slice, to_pyerr};
 
-enum OwnedKey<'py> {
+pub(crate) enum OwnedKey<'py> {
     None,
     I64(PyReadonlyArray1<'py, i64>),
     U64(PyReadonlyArray1<'py, u64>),
     F64(PyReadonlyArray1<'py, f64>),
 }
 
-fn read_key<'py>(key: Option<&Bound<'py, PyAny>>) -> PyResult<OwnedKey<'py>> {
+pub(crate) fn read_key<'py>(key: Option<&Bound<'py, PyAny>>) -> PyResult<OwnedKey<'py>> {
     let Some(key) = key else {
         return Ok(OwnedKey::None);
     };

@@ -1,0 +1,156 @@
+//! Directed cycles as evidence: one shortest cycle through a given node, or
+//! through the smallest node that lies on any cycle.
+
+use crate::scc::strong_components;
+use crate::{Csr, Error, Idx};
+
+/// A shortest directed cycle through `through`, starting there, or `None`
+/// when no cycle passes through it. A self-loop is a cycle of one node.
+///
+/// Breadth-first search from `through` in stored edge order; among cycles
+/// of the shortest length, the one found first in that order is returned.
+/// O(V + E), stopping as soon as the cycle closes.
+pub fn shortest_cycle_through<I: Idx>(
+    csr: &Csr<'_, I>,
+    through: i128,
+) -> Result<Option<Vec<I>>, Error> {
+    csr.check_indices()?;
+    let n = csr.n();
+    if through < 0 || through >= n as i128 {
+        return Err(Error::NoSuchNode { what: "through", value: through, n });
+    }
+    let start = through as usize;
+    // parent[v] == n: not reached yet.
+    let unseen = I::from_usize(n);
+    let mut parent = vec![unseen; n];
+    parent[start] = I::from_usize(start);
+    let mut queue: Vec<usize> = vec![start];
+    let mut head = 0;
+    while head < queue.len() {
+        let u = queue[head];
+        head += 1;
+        for &w in csr.row(u) {
+            let w = w.to_usize();
+            if w == start {
+                let mut cycle = Vec::new();
+                let mut x = u;
+                while x != start {
+                    cycle.push(I::from_usize(x));
+                    x = parent[x].to_usize();
+                }
+                cycle.push(I::from_usize(start));
+                cycle.reverse();
+                return Ok(Some(cycle));
+            }
+            if parent[w] == unseen {
+                parent[w] = I::from_usize(u);
+                queue.push(w);
+            }
+        }
+    }
+    Ok(None)
+}
+
+/// One directed cycle of `csr`, or `None` for a DAG: a shortest cycle
+/// through the smallest node id that lies on any cycle. O(V + E).
+pub fn find_cycle<I: Idx>(csr: &Csr<'_, I>) -> Result<Option<Vec<I>>, Error> {
+    let components = strong_components(csr)?;
+    let sizes = components.sizes();
+    let on_cycle = (0..csr.n()).find(|&v| {
+        sizes[components.labels[v].to_usize()].to_usize() > 1
+            || csr.row(v).iter().any(|w| w.to_usize() == v)
+    });
+    match on_cycle {
+        Some(v) => shortest_cycle_through(csr, v as i128),
+        None => Ok(None),
+    }
+}
+
+#[cfg(test)]
+// Reachability and distance matrices read best with explicit indices.
+#[allow(clippy::needless_range_loop)]
+mod tests {
+    use super::*;
+    use crate::rng::SplitMix64;
+    use crate::scc::tests::random_csr;
+
+    /// Shortest-path lengths by breadth-first search from every node.
+    fn distances(g: &Csr<'_, i64>) -> Vec<Vec<usize>> {
+        let n = g.n();
+        (0..n)
+            .map(|s| {
+                let mut d = vec![usize::MAX; n];
+                d[s] = 0;
+                let mut frontier = vec![s];
+                while !frontier.is_empty() {
+                    let mut next = Vec::new();
+                    for u in frontier {
+                        for &v in g.row(u) {
+                            if d[v as usize] == usize::MAX {
+                                d[v as usize] = d[u] + 1;
+                                next.push(v as usize);
+                            }
+                        }
+                    }
+                    frontier = next;
+                }
+                d
+            })
+            .collect()
+    }
+
+    fn assert_cycle(g: &Csr<'_, i64>, cycle: &[i64]) {
+        let k = cycle.len();
+        for step in 0..k {
+            let (u, v) = (cycle[step], cycle[(step + 1) % k]);
+            assert!(g.row(u as usize).contains(&v), "{u} -> {v} is not an edge");
+        }
+        let mut distinct = cycle.to_vec();
+        distinct.sort();
+        distinct.dedup();
+        assert_eq!(distinct.len(), k);
+    }
+
+    #[test]
+    fn shortest_cycles_match_breadth_first_distances() {
+        let mut rng = SplitMix64::new(31);
+        for _ in 0..400 {
+            let (indptr, indices) = random_csr(&mut rng, 10, 20);
+            let g = Csr::new(&indptr, &indices).unwrap();
+            let d = distances(&g);
+            for v in 0..g.n() {
+                // Shortest cycle through v: an edge u -> v closing a shortest v ~> u path.
+                let best = (0..g.n())
+                    .filter(|&u| g.row(u).contains(&(v as i64)) && d[v][u] != usize::MAX)
+                    .map(|u| d[v][u] + 1)
+                    .min();
+                let found = shortest_cycle_through(&g, v as i128).unwrap();
+                assert_eq!(found.as_ref().map(Vec::len), best);
+                if let Some(cycle) = found {
+                    assert_eq!(cycle[0], v as i64);
+                    assert_cycle(&g, &cycle);
+                }
+            }
+            let any = find_cycle(&g).unwrap();
+            let first = (0..g.n()).find(|&v| {
+                (0..g.n()).any(|u| g.row(u).contains(&(v as i64)) && d[v][u] != usize::MAX)
+            });
+            assert_eq!(any.as_ref().map(|c| c[0] as usize), first);
+            if let Some(cycle) = any {
+                assert_cycle(&g, &cycle);
+            }
+        }
+    }
+
+    #[test]
+    fn self_loop_and_bad_node() {
+        let g = Csr::new(&[0i32, 1, 2], &[1, 1]).unwrap();
+        assert_eq!(find_cycle(&g).unwrap(), Some(vec![1]));
+        assert_eq!(shortest_cycle_through(&g, 0).unwrap(), None);
+        assert_eq!(
+            shortest_cycle_through(&g, 2).unwrap_err(),
+            Error::NoSuchNode { what: "through", value: 2, n: 2 }
+        );
+        assert!(shortest_cycle_through(&g, -1).is_err());
+    }
+}
