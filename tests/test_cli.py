@@ -287,24 +287,6 @@ def test_missing_input_file(tmp_path, capsys):
     _fails(capsys, tmp_path, "order", tmp_path / "nope.tsv", message="nope.tsv: no such file")
 
 
-@pytest.mark.parametrize(
-    ("command", "needs"),
-    [
-        (["levels"], "levels"),
-        (["cycles"], "components"),
-        (["compare"], "compare"),
-        (["order", "--on-cycle", "condense"], "condense"),
-        (["order", "--on-cycle", "cut"], "cut_cycles"),
-    ],
-)
-def test_subcommands_waiting_for_their_functions_say_so(tmp_path, capsys, command, needs):
-    if hasattr(toporank, needs):
-        pytest.skip(f"toporank.{needs} is available")
-    path = _tsv(tmp_path / "e.tsv", [(0, 1)])
-    message = f"needs toporank.{needs}, which is not available"
-    _fails(capsys, tmp_path, command[0], path, *command[1:], message=message)
-
-
 # ---------------------------------------------------------------------------
 # subcommands that use functions from other modules; they run once those exist
 

@@ -49,7 +49,7 @@ _SHOWN_NODES = 12
 
 
 class Unavailable(Exception):
-    """A subcommand or option needs a function this version of toporank lacks."""
+    """An option needs something this installation lacks (matplotlib for --plot)."""
 
 
 def main(argv: Sequence[str] | None = None) -> int:
@@ -93,17 +93,6 @@ def _error(message: str) -> None:
 def _note(args: argparse.Namespace, message: str) -> None:
     if not getattr(args, "quiet", False):
         print(f"toporank: {message}", file=sys.stderr)
-
-
-def feature(name: str, needed_by: str) -> Callable[..., Any]:
-    """The public function ``toporank.<name>``, or :class:`Unavailable` naming what needs it."""
-    found = getattr(toporank, name, None)
-    if found is None:
-        raise Unavailable(
-            f"{needed_by} needs toporank.{name}, which is not available in this version "
-            f"(toporank {toporank.__version__})"
-        )
-    return found
 
 
 # ---------------------------------------------------------------------------
@@ -350,10 +339,6 @@ def ordered(
         tie_args["descending"] = True
     if args.seed is not None:
         tie_args["seed"] = args.seed
-    if on_cycle == "condense":
-        feature("condense", "--on-cycle condense")
-    if on_cycle == "cut":
-        feature("cut_cycles", "--on-cycle cut")
     report: dict[str, Any] = {"is_dag": True}
     try:
         ids = np.asarray(toporank.order(plain, **tie_args))
@@ -378,24 +363,15 @@ def ordered(
 
 
 def _node_levels(g: Graph, args: argparse.Namespace, report: dict[str, Any]) -> np.ndarray | None:
-    levels = getattr(toporank, "levels", None)
-    if levels is None:
-        _note(args, "level column left out: toporank.levels is not available in this version")
-        return None
     if not report["is_dag"]:
         _note(args, "level column left out: levels need a graph without cycles")
         return None
-    return np.asarray(levels(_plain(g)))
+    return np.asarray(toporank.levels(_plain(g)))
 
 
 def run_order(args: argparse.Namespace) -> int:
     started = time.perf_counter()
     _outputs(args, "output", "summary")
-    if args.on_cycle in ("condense", "cut"):
-        feature(
-            "condense" if args.on_cycle == "condense" else "cut_cycles",
-            f"--on-cycle {args.on_cycle}",
-        )
     g = _read_input(args)
     key = read_key(args.key, g, progress=not args.quiet) if args.key else None
     read_done = time.perf_counter()
@@ -502,10 +478,9 @@ def _json_value(value: Any) -> Any:
 
 
 def run_levels(args: argparse.Namespace) -> int:
-    levels = feature("levels", "toporank levels")
     _outputs(args, "output")
     g = _read_input(args)
-    values = np.asarray(levels(_plain(g)))
+    values = np.asarray(toporank.levels(_plain(g)))
     kind = _output_format(args, "csv")
     if kind == "npy":
         _write(args.output, lambda f: np.save(f, values, allow_pickle=False), binary=True)
@@ -522,11 +497,8 @@ def run_levels(args: argparse.Namespace) -> int:
 
 def _components_report(g: Graph, with_witnesses: bool, limit: int | None = None) -> dict[str, Any]:
     """Sizes of the strongly connected components with cycles, and a witness cycle for each."""
-    components = getattr(toporank, "components", None)
-    if components is None:
-        return {}
     plain = _plain(g)
-    labels = np.asarray(components(plain), dtype=np.int64)
+    labels = np.asarray(toporank.components(plain), dtype=np.int64)
     sizes = np.bincount(labels, minlength=int(labels.max()) + 1 if len(labels) else 0)
     rows = np.repeat(np.arange(g.n, dtype=np.int64), np.diff(g.indptr))
     looped = np.zeros(len(sizes), dtype=bool)
@@ -540,14 +512,14 @@ def _components_report(g: Graph, with_witnesses: bool, limit: int | None = None)
     }
     if not with_witnesses:
         return report
-    witness = feature("cycle_witness", "the cycle report")
     first_node = np.full(len(sizes), -1, dtype=np.int64)
     present, first_seen = np.unique(labels, return_index=True)
     first_node[present] = first_seen
     listed = []
     for component in cyclic[:limit]:
-        cycle = witness(plain, through=int(first_node[component]))
-        cycle = [] if cycle is None else cycle
+        cycle = toporank.cycle_witness(plain, through=int(first_node[component]))
+        if cycle is None:
+            cycle = np.zeros(0, dtype=np.int64)
         listed.append(
             {
                 "component": int(component),
@@ -559,34 +531,17 @@ def _components_report(g: Graph, with_witnesses: bool, limit: int | None = None)
     return report
 
 
-def _first_attribute(obj: Any, names: Sequence[str]) -> Any:
-    for name in names:
-        if hasattr(obj, name):
-            return getattr(obj, name)
-    raise Unavailable(f"cut_cycles returned {type(obj).__name__} without any of {list(names)}")
-
-
 def _cut_report(g: Graph) -> dict[str, Any]:
-    cut = feature("cut_cycles", "--cut")(_plain(g))
-    sources = np.asarray(_first_attribute(cut, ("source", "sources", "src")), dtype=np.int64)
-    targets = np.asarray(_first_attribute(cut, ("target", "targets", "dst")), dtype=np.int64)
-    edge_ids = None
-    for name in ("edge", "edges", "edge_index", "edge_indices", "index"):
-        value = getattr(cut, name, None)
-        if value is not None and np.asarray(value).ndim == 1:
-            edge_ids = np.asarray(value, dtype=np.int64)
-            break
+    cut = toporank.cut_cycles(_plain(g))
     return {
-        "count": len(sources),
-        "source": _named(g, sources),
-        "target": _named(g, targets),
-        "edge": None if edge_ids is None else edge_ids.tolist(),
+        "count": len(cut),
+        "source": _named(g, np.asarray(cut.sources, dtype=np.int64)),
+        "target": _named(g, np.asarray(cut.targets, dtype=np.int64)),
+        "edge": np.asarray(cut.edge_index).tolist(),
     }
 
 
 def run_cycles(args: argparse.Namespace) -> int:
-    feature("components", "toporank cycles")
-    feature("cycle_witness", "toporank cycles")
     if args.output and not args.cut:
         raise GraphInputError("-o writes the cut edges; add --cut")
     if args.limit < 0:
@@ -668,7 +623,6 @@ def run_verify(args: argparse.Namespace) -> int:
 
 
 def run_compare(args: argparse.Namespace) -> int:
-    compare = feature("compare", "toporank compare")
     _outputs(args, "plot")
     g = _read_input(args)
     options: dict[str, Any] = {}
@@ -680,7 +634,7 @@ def run_compare(args: argparse.Namespace) -> int:
         options["descending"] = True
     if args.workers is not None:
         options["workers"] = args.workers
-    result = compare(g, **options)
+    result = toporank.compare(g, **options)
     print(str(result))
     if args.plot:
         plot = getattr(result, "plot", None)
