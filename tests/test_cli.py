@@ -15,7 +15,6 @@ import sys
 import time
 
 import numpy as np
-import pytest
 
 import toporank
 from toporank.cli import main
@@ -121,14 +120,13 @@ def test_console_script_on_labelled_cyclic_file(tmp_path):
     refused = run("order", path, "--header", "-q")
     assert refused.returncode == 1 and "cycle" in refused.stderr
 
-    if hasattr(toporank, "cut_cycles") and hasattr(toporank, "components"):
-        result = run("order", path, "--header", "--on-cycle", "cut", "-q")
-        assert result.returncode == 0, result.stderr
-        cut_file = tmp_path / "cut.csv"
-        assert run("cycles", path, "--header", "--cut", "-o", str(cut_file)).returncode == 0
-        cut = {tuple(line.split(",")[:2]) for line in cut_file.read_text().splitlines()[1:]}
-        kept = [e for e in CYCLIC if e not in cut]
-        toporank.verify_order(kept, np.array(result.stdout.split(), dtype=object))
+    result = run("order", path, "--header", "--on-cycle", "cut", "-q")
+    assert result.returncode == 0, result.stderr
+    cut_file = tmp_path / "cut.csv"
+    assert run("cycles", path, "--header", "--cut", "-o", str(cut_file)).returncode == 0
+    cut = {tuple(line.split(",")[:2]) for line in cut_file.read_text().splitlines()[1:]}
+    kept = [e for e in CYCLIC if e not in cut]
+    toporank.verify_order(kept, np.array(result.stdout.split(), dtype=object))
 
 
 def test_verify_subcommand(tmp_path, capsys):
@@ -292,8 +290,6 @@ def test_missing_input_file(tmp_path, capsys):
 
 
 def test_levels_subcommand(tmp_path, capsys):
-    if not hasattr(toporank, "levels"):
-        pytest.skip("toporank.levels not in this version")
     import networkx as nx
 
     pairs = [("a", "b"), ("b", "c"), ("a", "c"), ("d", "c")]
@@ -310,8 +306,6 @@ def test_levels_subcommand(tmp_path, capsys):
 
 
 def test_cycles_subcommand(tmp_path, capsys):
-    if not (hasattr(toporank, "components") and hasattr(toporank, "cycle_witness")):
-        pytest.skip("toporank.components / cycle_witness not in this version")
     path = _tsv(tmp_path / "deps.tsv", [*CYCLIC, ("api", "api")])
     status, out, err = _run(capsys, "cycles", path, "--json", tmp_path / "c.json")
     assert status == 0, err
@@ -323,8 +317,6 @@ def test_cycles_subcommand(tmp_path, capsys):
 
 
 def test_cut_subcommand(tmp_path, capsys):
-    if not hasattr(toporank, "cut_cycles") or not hasattr(toporank, "components"):
-        pytest.skip("toporank.cut_cycles not in this version")
     import networkx as nx
 
     path = _tsv(tmp_path / "deps.tsv", CYCLIC)
@@ -338,10 +330,22 @@ def test_cut_subcommand(tmp_path, capsys):
 
 
 def test_compare_subcommand(tmp_path, capsys):
-    if not hasattr(toporank, "compare"):
-        pytest.skip("toporank.compare not in this version")
     status, out, err = _run(capsys, "compare", _tsv(tmp_path / "e.tsv", [(0, 1), (0, 2)]))
     assert status == 0 and out.strip(), err
+
+
+def test_compare_on_a_cyclic_file_stops_or_cuts(tmp_path, capsys):
+    # invented modules with one import ring (a -> b -> c -> a)
+    path = _tsv(tmp_path / "e.tsv", [("x", "a"), ("a", "b"), ("b", "c"), ("c", "a"), ("c", "y")])
+    status, _, err = _run(capsys, "compare", path)
+    assert status == 1 and "cycle" in err
+    status, out, err = _run(capsys, "compare", path, "--on-cycle", "cut", "--workers", "2")
+    assert status == 0, err
+    assert "without the 1 edges cut_cycles removed" in err
+    for policy in toporank.SCHEDULE_TIES:
+        assert policy in out
+    # the graph left after the cut (5 nodes, 4 of the 5 edges) is what was compared
+    assert "5 nodes, 4 edges" in out
 
 
 # ---------------------------------------------------------------------------

@@ -95,11 +95,9 @@ def monorepo() -> list[tuple[str, str]]:
 
 
 def _loops(g: toporank.Graph) -> list[list[object]]:
-    """One witness cycle per strongly connected component, when this version can find them."""
+    """One witness cycle per strongly connected component with a cycle."""
     from .cli import _components_report
 
-    if not (hasattr(toporank, "components") and hasattr(toporank, "cycle_witness")):
-        return []
     report = _components_report(g, with_witnesses=True)
     return [item["cycle"] for item in report["components"]]
 
@@ -147,12 +145,12 @@ def run(out: str, *, progress: bool = True) -> int:
     )
     _write_csv(paths["imports"], ("module", "imports"), monorepo())
 
-    journal_on_cycle = "condense" if hasattr(toporank, "condense") else "partial"
+    journal_on_cycle = "condense"
     g = read_graph(paths["citations"], columns=("cited", "citing"), progress=progress)
     key = read_key(paths["years"], g)
     options = argparse.Namespace(tie="priority", descending=False, seed=None)
     ids, report = ordered(g, options, key, journal_on_cycle)
-    if ids is None:  # not reached: partial and condense always give an order
+    if ids is None:  # not reached: condense always gives an order
         raise RuntimeError("the demo's journal could not be ordered")
     names = node_strings(g, ids)
     with atomic_output(paths["journal_order"]) as f:
@@ -182,13 +180,7 @@ def run(out: str, *, progress: bool = True) -> int:
                 print(f"    {_cycle(loop)}")
         else:
             print(f"  not a DAG: citation loop {_cycle(report['witness_cycle'])}")
-        if journal_on_cycle == "partial":
-            print(
-                f"  {report['blocked_behind_cycles']} papers sit on or after a loop; the "
-                f"{len(ids)} before them are ordered (--on-cycle partial)"
-            )
-        else:
-            print(f"  all {len(ids)} papers ordered, each loop kept together (--on-cycle condense)")
+        print(f"  all {len(ids)} papers ordered, each loop kept together (--on-cycle condense)")
     first = ", ".join(f"{p} ({years[p]})" for p in names[:4])
     print(f"  reading order, oldest first (--tie priority by year): {first}, ...")
 
@@ -218,12 +210,11 @@ def run(out: str, *, progress: bool = True) -> int:
         print(
             f"  {len(build_ids)} modules can be built before it: {', '.join(build_order[:5])}, ..."
         )
-        if hasattr(toporank, "cut_cycles"):
-            cut = _cut_report(m)
-            removed = ", ".join(
-                f"{u} -> {v}" for u, v in zip(cut["source"], cut["target"], strict=True)
-            )
-            print(f"  removing {removed} breaks the cycle (--on-cycle cut)")
+        cut = _cut_report(m)
+        removed = ", ".join(
+            f"{u} -> {v}" for u, v in zip(cut["source"], cut["target"], strict=True)
+        )
+        print(f"  removing {removed} breaks the cycle (--on-cycle cut)")
 
     print("\nwritten:")
     for path in paths.values():
@@ -235,5 +226,9 @@ def run(out: str, *, progress: bool = True) -> int:
     )
     print(f"  toporank order {paths['imports']} --columns imports,module")
     print(f"  toporank cycles {paths['imports']} --columns imports,module --cut")
+    print(
+        f"  toporank compare {paths['citations']} --columns cited,citing --key {paths['years']} "
+        "--workers 4 --on-cycle cut --plot policies.png"
+    )
     print(f"\ndone in {time.perf_counter() - started:.2f} s")
     return 0

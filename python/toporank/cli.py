@@ -182,6 +182,13 @@ def _parser() -> argparse.ArgumentParser:
         "--workers", type=int, metavar="N", help="also schedule each order on N workers"
     )
     compare.add_argument("--plot", metavar="PNG", help="also draw the comparison here")
+    compare.add_argument(
+        "--on-cycle",
+        choices=("raise", "cut"),
+        default="raise",
+        help="a graph with cycles: stop (raise, the default) or compare on the graph "
+        "left after cut_cycles removes a minimal set of edges (cut)",
+    )
     compare.set_defaults(run=run_compare)
 
     demo = commands.add_parser("demo", help="run on bundled invented data and write the results")
@@ -622,6 +629,17 @@ def run_verify(args: argparse.Namespace) -> int:
     return EXIT_OK
 
 
+def _without_edges(g: Graph, input_positions: np.ndarray) -> Graph:
+    """``g`` less the edges at these input positions; labels and edge order kept."""
+    stored = g.edge_input_positions()
+    drop = np.isin(stored if stored is not None else np.arange(g.m), input_positions)
+    rows = np.repeat(np.arange(g.n, dtype=g.indices.dtype), np.diff(g.indptr))[~drop]
+    targets = g.indices[~drop]
+    if g.labels is None:
+        return Graph.from_edges(rows, targets, g.n)
+    return Graph.from_labelled_edges(rows, targets, g.labels)
+
+
 def run_compare(args: argparse.Namespace) -> int:
     _outputs(args, "plot")
     g = _read_input(args)
@@ -634,6 +652,11 @@ def run_compare(args: argparse.Namespace) -> int:
         options["descending"] = True
     if args.workers is not None:
         options["workers"] = args.workers
+    if args.on_cycle == "cut":
+        cut = toporank.cut_cycles(g)
+        if len(cut):
+            _note(args, f"comparing without the {len(cut)} edges cut_cycles removed")
+            g = _without_edges(g, np.asarray(cut.edge_index, dtype=np.int64))
     result = toporank.compare(g, **options)
     print(str(result))
     if args.plot:
