@@ -108,11 +108,13 @@ def levels(
         inside a level; labels for a labelled graph) instead of the
         per-node array.
     threads
-        Worker threads. ``None`` reads the environment variable
-        ``TOPORANK_NUM_THREADS``, else uses every core available to the
-        process. Workers are started on the first parallel call (never at
-        import) and rebuilt in a forked child. The result is the same for
-        every thread count.
+        Worker threads for the frontier-parallel loop. ``None`` reads the
+        environment variable ``TOPORANK_NUM_THREADS``, else runs the serial
+        loop: on citation-like graphs the serial FIFO sweep (with
+        prefetching, no atomics) measured faster than two workers counting
+        in-degrees down atomically. Workers are started on the first
+        parallel call (never at import) and rebuilt in a forked child. The
+        result is the same for every thread count.
     on_cycle
         ``"raise"`` (the only choice for now) raises :class:`CyclicGraphError`.
     n
@@ -156,7 +158,8 @@ def levels(
     """
     g = as_graph(graph, n)
     _check_on_cycle(on_cycle)
-    workers = _thread_count(threads)
+    serial_default = threads is None and not os.environ.get(THREADS_VARIABLE)
+    workers = 1 if serial_default else _thread_count(threads)
     cyclic, level, nodes, offsets = _core.levels(g.indptr, g.indices, workers, bool(grouped))
     _raise_if_cyclic(g, cyclic)
     if not grouped:

@@ -114,7 +114,7 @@ fn run_policy<I: Idx, C: Count>(csr: &Csr<'_, I>, tie: &Tie<'_>) -> Result<Outco
     let mut indegree: Vec<C> = csr.in_degree_counts()?;
     let mut order: Vec<I> = Vec::with_capacity(n);
     match *tie {
-        Tie::Queue => run_queue(csr, &mut indegree, &mut order),
+        Tie::Queue => run_queue(csr, &mut indegree, &mut order, &mut ()),
         Tie::Stack => run(csr, &mut indegree, &mut order, &mut Vec::new()),
         Tie::Priority(Key { values: None, descending }) => {
             let mut heap = IdHeap { heap: QuadHeap::new(), flip: if descending { !0 } else { 0 } };
@@ -371,16 +371,39 @@ fn prefetch<T>(pointer: *const T) {
     let _ = pointer;
 }
 
+/// Hooks into the FIFO loop, for sweeps that compute per-node values along
+/// the order; the unit type is plain Kahn's algorithm (the hooks compile away).
+pub(crate) trait FifoHooks {
+    /// Node `u` is emitted from queue `position`; `tail` is the queue length
+    /// before its successors are examined.
+    #[inline(always)]
+    fn emit(&mut self, _position: usize, _u: usize, _tail: usize) {}
+    /// Stored edge number `edge`, `u -> v`, is examined (in row order).
+    #[inline(always)]
+    fn edge(&mut self, _u: usize, _edge: usize, _v: usize) {}
+}
+
+impl FifoHooks for () {}
+
 /// FIFO Kahn's loop: the output itself is the queue (emitted nodes are a
 /// prefix of it, ready nodes the rest), so no second buffer is needed.
-fn run_queue<I: Idx, C: Count>(csr: &Csr<'_, I>, indegree: &mut [C], order: &mut Vec<I>) {
+///
+/// `indegree` must come from [`Csr::in_degree_counts`] on the same graph
+/// (which checked every endpoint) and `order` must be empty with room for
+/// `n` nodes.
+pub(crate) fn run_queue<I: Idx, C: Count, H: FifoHooks>(
+    csr: &Csr<'_, I>,
+    indegree: &mut [C],
+    order: &mut Vec<I>,
+    hooks: &mut H,
+) {
     let n = csr.n();
     let (indptr, indices) = (csr.indptr(), csr.indices());
     // `in_degree_counts` checked every endpoint and `Csr::new` checked that
     // indptr is monotone and ends at indices.len(), so every access below
     // is in bounds. Each node enters the queue exactly once (when its count
     // reaches zero, or at the start), so at most n slots are written.
-    assert!(indegree.len() == n && order.capacity() >= n);
+    assert!(indegree.len() == n && order.is_empty() && order.capacity() >= n);
     let queue = order.as_mut_ptr();
     let mut tail = 0usize;
     for (v, d) in indegree.iter().enumerate() {
@@ -402,10 +425,13 @@ fn run_queue<I: Idx, C: Count>(csr: &Csr<'_, I>, indegree: &mut [C], order: &mut
                 prefetch(indices.as_ptr().add(start));
             }
             let u = (*queue.add(head)).to_usize();
+            hooks.emit(head, u, tail);
             head += 1;
             let start = indptr.get_unchecked(u).to_usize();
             let end = indptr.get_unchecked(u + 1).to_usize();
-            for &v in indices.get_unchecked(start..end) {
+            for edge in start..end {
+                let v = *indices.get_unchecked(edge);
+                hooks.edge(u, edge, v.to_usize());
                 if indegree.get_unchecked_mut(v.to_usize()).decrement() {
                     queue.add(tail).write(v);
                     tail += 1;
