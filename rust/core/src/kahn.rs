@@ -360,8 +360,9 @@ fn run<I: Idx, C: Count, R: Ready<I>>(
 const ROW_AHEAD: usize = 32;
 const EDGES_AHEAD: usize = 16;
 
+/// Ask for the cache line holding `pointer`; a hint that never faults.
 #[inline(always)]
-fn prefetch<T>(pointer: *const T) {
+pub(crate) fn prefetch<T>(pointer: *const T) {
     #[cfg(target_arch = "x86_64")]
     // SAFETY: prefetching is a hint; it never faults, whatever the address.
     unsafe {
