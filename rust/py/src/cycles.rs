@@ -1,13 +1,13 @@
 //! Graphs with cycles: components, condensation, witnesses, cycle cuts.
 
 use numpy::{IntoPyArray, PyArray1, PyArrayMethods};
-use pyo3::exceptions::{PyTypeError, PyValueError};
+use pyo3::exceptions::PyTypeError;
 use pyo3::prelude::*;
 use pyo3::types::PyTuple;
-use toporank_core::{condense, cut, scc, witness, Csr, Key, KeyValues, Tie};
+use toporank_core::{condense, cut, scc, witness, Csr};
 
 use crate::common::{compute, slice, to_pyerr};
-use crate::order::{read_key, OwnedKey};
+use crate::order::{make_tie, read_key};
 
 /// Strongly connected component of every node, numbered topologically.
 ///
@@ -54,27 +54,6 @@ fn condensation<'py>(
             condensed.weights.into_pyarray(py),
         )
             .into_pyobject(py)
-    })
-}
-
-fn make_tie<'a>(
-    tie: &str,
-    key: &'a OwnedKey<'_>,
-    descending: bool,
-    seed: u64,
-) -> PyResult<Tie<'a>> {
-    let values = match key {
-        OwnedKey::None => None,
-        OwnedKey::I64(a) => Some(KeyValues::I64(slice(a, "key")?)),
-        OwnedKey::U64(a) => Some(KeyValues::U64(slice(a, "key")?)),
-        OwnedKey::F64(a) => Some(KeyValues::F64(slice(a, "key")?)),
-    };
-    Ok(match tie {
-        "queue" => Tie::Queue,
-        "stack" => Tie::Stack,
-        "priority" => Tie::Priority(Key { values, descending }),
-        "random" => Tie::Random { seed },
-        other => return Err(PyValueError::new_err(format!("unknown tie {other:?}"))),
     })
 }
 

@@ -32,6 +32,28 @@ pub(crate) fn read_key<'py>(key: Option<&Bound<'py, PyAny>>) -> PyResult<OwnedKe
     Err(PyTypeError::new_err("key must be a 1-D numpy array of int64, uint64 or float64"))
 }
 
+/// The tie-break policy named `tie`, borrowing its key from `key`.
+pub(crate) fn make_tie<'a>(
+    tie: &str,
+    key: &'a OwnedKey<'_>,
+    descending: bool,
+    seed: u64,
+) -> PyResult<Tie<'a>> {
+    let values = match key {
+        OwnedKey::None => None,
+        OwnedKey::I64(a) => Some(KeyValues::I64(slice(a, "key")?)),
+        OwnedKey::U64(a) => Some(KeyValues::U64(slice(a, "key")?)),
+        OwnedKey::F64(a) => Some(KeyValues::F64(slice(a, "key")?)),
+    };
+    Ok(match tie {
+        "queue" => Tie::Queue,
+        "stack" => Tie::Stack,
+        "priority" => Tie::Priority(Key { values, descending }),
+        "random" => Tie::Random { seed },
+        other => return Err(PyValueError::new_err(format!("unknown tie {other:?}"))),
+    })
+}
+
 /// Kahn's algorithm on a CSR graph.
 ///
 /// Returns `(order, blocked, cycle)`; `blocked` and `cycle` are empty for a DAG.
@@ -47,19 +69,7 @@ fn kahn_order<'py>(
     seed: u64,
 ) -> PyResult<Bound<'py, PyTuple>> {
     let key = read_key(key)?;
-    let values = match &key {
-        OwnedKey::None => None,
-        OwnedKey::I64(a) => Some(KeyValues::I64(slice(a, "key")?)),
-        OwnedKey::U64(a) => Some(KeyValues::U64(slice(a, "key")?)),
-        OwnedKey::F64(a) => Some(KeyValues::F64(slice(a, "key")?)),
-    };
-    let tie = match tie {
-        "queue" => Tie::Queue,
-        "stack" => Tie::Stack,
-        "priority" => Tie::Priority(Key { values, descending }),
-        "random" => Tie::Random { seed },
-        other => return Err(PyValueError::new_err(format!("unknown tie {other:?}"))),
-    };
+    let tie = make_tie(tie, &key, descending, seed)?;
     with_index_width!(indptr, indices, I => {
         let (indptr, indices) = (slice(&indptr, "indptr")?, slice(&indices, "indices")?);
         let outcome = compute(py, || Csr::<I>::new(indptr, indices).and_then(|g| kahn(&g, &tie)))?
