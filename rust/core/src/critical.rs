@@ -94,7 +94,7 @@ pub fn critical_path<I: Idx>(
 
     let mut latest_start = vec![0.0f64; n];
     let cells = Disjoint::new(&mut latest_start);
-    settle_backward(&levels, threads, |u| {
+    settle_backward(csr, &levels, threads, |u| {
         let range = csr.row_range(u);
         let start = range.start;
         let mut latest_finish = length;

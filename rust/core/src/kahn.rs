@@ -357,8 +357,8 @@ fn run<I: Idx, C: Count, R: Ready<I>>(
 /// dependent cache misses (queue slot, row bounds, row). Prefetching the
 /// successors' counts too was measured slower: the out-of-order core already
 /// overlaps those independent misses within a row.
-const ROW_AHEAD: usize = 32;
-const EDGES_AHEAD: usize = 16;
+pub(crate) const ROW_AHEAD: usize = 32;
+pub(crate) const EDGES_AHEAD: usize = 16;
 
 /// Ask for the cache line holding `pointer`; a hint that never faults.
 #[inline(always)]

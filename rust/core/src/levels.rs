@@ -151,7 +151,7 @@ pub fn heights<I: Idx>(
         return Ok(height.into_iter().map(I::from_usize).collect());
     }
     let height: Vec<AtomicU32> = (0..n).map(|_| AtomicU32::new(0)).collect();
-    settle_backward(levels, threads, |u| {
+    settle_backward(csr, levels, threads, |u| {
         let h = csr.row(u).iter().map(|v| height[v.to_usize()].load(Relaxed) + 1).max();
         height[u].store(h.unwrap_or(0), Relaxed);
     })?;

@@ -76,7 +76,7 @@ pub fn path_counts<I: Idx>(csr: &Csr<'_, I>, threads: usize) -> Result<Acyclic<C
     let mut to = vec![0.0f64; n];
     let mut through = vec![0.0f64; csr.m()];
     let (to_cells, through_cells) = (Disjoint::new(&mut to), Disjoint::new(&mut through));
-    settle_backward(&levels, threads, |u| {
+    settle_backward(csr, &levels, threads, |u| {
         // SAFETY (settle_backward's contract): this writes only `to[u]` and
         // the edges of row u, and reads only successors' `to`.
         unsafe {
