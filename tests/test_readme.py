@@ -9,6 +9,7 @@ from pathlib import Path
 import pytest
 
 README = Path(__file__).resolve().parent.parent / "README.md"
+RESULT = re.compile(r"(array\(.*?\)|\[.*?\]|-?\d+\.\d+, \[.*?\]|None)(:|\s{2,}|$)")
 BLOCKS = re.findall(r"```python\n(.*?)```", README.read_text(), flags=re.S)
 
 
@@ -35,7 +36,7 @@ def test_readme_commented_results_hold(tmp_path, monkeypatch):
         for statement in ast.parse(block).body:
             source = ast.get_source_segment(block, statement) or ""
             comment = lines[statement.end_lineno - 1].partition("#")[2].strip()
-            literal = re.match(r"(array\(.*?\)|\[.*?\]|-?\d+\.\d+, \[.*?\]|None)(:|\s{2,}|$)", comment)
+            literal = RESULT.match(comment)
             if isinstance(statement, ast.Expr) and literal:
                 got = eval(source, namespace)
                 expected = eval(literal.group(1), {"array": _array, "dtype": object})
