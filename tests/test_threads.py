@@ -5,6 +5,9 @@ from __future__ import annotations
 import threading
 import time
 
+import numpy as np
+import pytest
+
 import toporank
 from toporank import _core
 from toporank._synthetic import citation_dag
@@ -32,3 +35,22 @@ def test_other_python_threads_run_during_a_core_call():
     # any window (beyond the interpreter's switch at its edges).
     inside = sum(1 for t in ticks for a, b in windows if a + 0.002 < t < b - 0.002)
     assert inside > 100, (inside, windows)
+
+
+def test_order_is_the_same_for_every_thread_count():
+    n = 300_000  # 3M edges: enough for the in-degree pass to be shared
+    src, dst, year = citation_dag(n, 10, seed=4)
+    g = toporank.Graph.from_edges(src, dst, n)
+    for tie, extra in [("queue", {}), ("priority", {"key": year}), ("random", {"seed": 3})]:
+        one = toporank.order(g, tie=tie, threads=1, **extra)
+        for threads in (2, 3):
+            assert np.array_equal(toporank.order(g, tie=tie, threads=threads, **extra), one)
+
+
+def test_bad_thread_counts_are_named(monkeypatch):
+    edges = np.array([[0, 1]])
+    with pytest.raises(toporank.GraphInputError, match="got 0"):
+        toporank.order(edges, threads=0)
+    monkeypatch.setenv("TOPORANK_NUM_THREADS", "many")
+    with pytest.raises(toporank.GraphInputError, match="'many'"):
+        toporank.order(edges)

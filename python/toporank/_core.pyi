@@ -13,6 +13,7 @@ def kahn_order(
     key: np.ndarray | None = None,
     descending: bool = False,
     seed: int = 0,
+    threads: int = 1,
 ) -> tuple[np.ndarray, np.ndarray, np.ndarray]: ...
 def edges_to_csr(
     src: np.ndarray, dst: np.ndarray, n: int, with_edge_ids: bool = False

@@ -7,6 +7,7 @@ works). int32 and int64 index arrays are used without copying.
 
 from __future__ import annotations
 
+import os
 from collections.abc import Hashable, Iterable, Mapping
 from dataclasses import dataclass, field
 from typing import Any
@@ -395,3 +396,30 @@ def node_weights(graph: Graph, values: Any, name: str) -> np.ndarray:
             "non-negative"
         )
     return np.ascontiguousarray(array)
+
+
+THREADS_VARIABLE = "TOPORANK_NUM_THREADS"
+"""Environment variable giving the default worker count of parallel steps."""
+
+
+def thread_count(threads: int | None) -> int:
+    """The worker count: ``threads``, else ``TOPORANK_NUM_THREADS``, else the usable cores."""
+    if threads is None:
+        setting = os.environ.get(THREADS_VARIABLE, "").strip()
+        if not setting:
+            try:
+                return max(1, len(os.sched_getaffinity(0)))
+            except AttributeError:  # not on Linux
+                return max(1, os.cpu_count() or 1)
+        try:
+            threads = int(setting)
+        except ValueError:
+            raise GraphInputError(
+                f"{THREADS_VARIABLE}={setting!r} is not a whole number of threads"
+            ) from None
+        where = f" (from {THREADS_VARIABLE})"
+    else:
+        where = ""
+    if isinstance(threads, bool) or not isinstance(threads, (int, np.integer)) or threads < 1:
+        raise GraphInputError(f"threads must be a positive integer, got {threads!r}{where}")
+    return int(threads)

@@ -24,11 +24,13 @@ import numpy as np
 from . import _core
 from ._errors import CyclicGraphError, GraphInputError
 from ._graph import (
+    THREADS_VARIABLE,
     Graph,
     as_graph,
     as_nodes,
     edge_values,
     node_weights,
+    thread_count,
 )
 
 __all__ = [
@@ -40,34 +42,9 @@ __all__ = [
     "path_counts",
 ]
 
-THREADS_VARIABLE = "TOPORANK_NUM_THREADS"
-"""Environment variable giving the default worker count of the parallel sweeps."""
-
 ON_CYCLE = ("raise",)
 
 OnCycle = Literal["raise"]
-
-
-def _thread_count(threads: int | None) -> int:
-    if threads is None:
-        setting = os.environ.get(THREADS_VARIABLE, "").strip()
-        if not setting:
-            try:
-                return max(1, len(os.sched_getaffinity(0)))
-            except AttributeError:  # not on Linux
-                return max(1, os.cpu_count() or 1)
-        try:
-            threads = int(setting)
-        except ValueError:
-            raise GraphInputError(
-                f"{THREADS_VARIABLE}={setting!r} is not a whole number of threads"
-            ) from None
-        where = f" (from {THREADS_VARIABLE})"
-    else:
-        where = ""
-    if isinstance(threads, bool) or not isinstance(threads, (int, np.integer)) or threads < 1:
-        raise GraphInputError(f"threads must be a positive integer, got {threads!r}{where}")
-    return int(threads)
 
 
 def _check_on_cycle(on_cycle: str) -> None:
@@ -159,7 +136,7 @@ def levels(
     g = as_graph(graph, n)
     _check_on_cycle(on_cycle)
     serial_default = threads is None and not os.environ.get(THREADS_VARIABLE)
-    workers = 1 if serial_default else _thread_count(threads)
+    workers = 1 if serial_default else thread_count(threads)
     cyclic, level, nodes, offsets = _core.levels(g.indptr, g.indices, workers, bool(grouped))
     _raise_if_cyclic(g, cyclic)
     if not grouped:
@@ -208,7 +185,7 @@ def heights(
     """
     g = as_graph(graph, n)
     _check_on_cycle(on_cycle)
-    cyclic, height = _core.heights(g.indptr, g.indices, _thread_count(threads))
+    cyclic, height = _core.heights(g.indptr, g.indices, thread_count(threads))
     _raise_if_cyclic(g, cyclic)
     return height
 
@@ -343,7 +320,7 @@ def critical_path(
     lags = None if edge_weight is None else edge_values(g, edge_weight, "edge_weight", graph)
     default_lag = 1.0 if node_weight is None else 0.0
     cyclic, length, path, earliest, latest = _core.critical_path(
-        g.indptr, g.indices, durations, lags, default_lag, _thread_count(threads)
+        g.indptr, g.indices, durations, lags, default_lag, thread_count(threads)
     )
     _raise_if_cyclic(g, cyclic)
     return CriticalPath(
@@ -502,7 +479,7 @@ def path_counts(
     g = as_graph(graph, n)
     _check_on_cycle(on_cycle)
     cyclic, from_sources, to_sinks, through, total, exact, logs = _core.path_counts(
-        g.indptr, g.indices, _thread_count(threads)
+        g.indptr, g.indices, thread_count(threads)
     )
     _raise_if_cyclic(g, cyclic)
     positions = g.edge_input_positions()

@@ -1,5 +1,7 @@
 //! A borrowed CSR graph and its validation.
 
+use rayon::prelude::*;
+
 use crate::{Error, Idx};
 
 /// A directed graph in compressed sparse row form, borrowed from the caller.
@@ -107,6 +109,52 @@ impl<'a, I: Idx> Csr<'a, I> {
         Ok(indegree)
     }
 
+    /// [`Csr::in_degree_counts`] shared among `threads` workers: each counts a
+    /// contiguous share of the edges into its own array, then the arrays are
+    /// added. Exact, so the result does not depend on the thread count; an
+    /// out-of-range endpoint is reported at its smallest position, as the
+    /// serial pass does. Costs `threads - 1` extra count arrays while it runs.
+    pub fn in_degree_counts_shared<C: Count>(&self, threads: usize) -> Result<Vec<C>, Error> {
+        // Below this many edges per worker the hand-off costs more than it saves.
+        const SHARE: usize = 1 << 20;
+        let workers = threads.min(self.m() / SHARE).max(1);
+        if workers == 1 {
+            return self.in_degree_counts();
+        }
+        if self.m() > C::MAX {
+            return Err(Error::TooLarge { what: "edge count", count: self.m(), max: C::MAX });
+        }
+        let n = self.n();
+        let share = self.m().div_ceil(workers);
+        let counted: Vec<Result<Vec<C>, usize>> = crate::pool::pool(workers)?.install(|| {
+            self.indices
+                .par_chunks(share)
+                .enumerate()
+                .map(|(part, chunk)| {
+                    let mut counts = vec![C::ZERO; n];
+                    for (offset, v) in chunk.iter().enumerate() {
+                        match counts.get_mut(v.to_usize()) {
+                            Some(slot) => slot.increment(),
+                            None => return Err(part * share + offset),
+                        }
+                    }
+                    Ok(counts)
+                })
+                .collect()
+        });
+        let mut parts = Vec::with_capacity(counted.len());
+        for part in counted {
+            parts.push(part.map_err(|position| self.out_of_range(position))?);
+        }
+        let mut total = parts.swap_remove(0);
+        for part in &parts {
+            for (sum, add) in total.iter_mut().zip(part) {
+                sum.add(*add);
+            }
+        }
+        Ok(total)
+    }
+
     /// In-degree of every node, counting duplicates and self-loops; checks
     /// every endpoint on the way.
     pub fn in_degrees(&self) -> Result<Vec<I>, Error> {
@@ -127,6 +175,8 @@ pub trait Count: Copy + Send + Sync + 'static {
     const ZERO: Self;
     const MAX: usize;
     fn increment(&mut self);
+    /// Add another count (sums stay below `MAX`: they count distinct edges).
+    fn add(&mut self, other: Self);
     /// Subtract one; true when the count reaches zero.
     fn decrement(&mut self) -> bool;
     fn is_zero(self) -> bool;
@@ -140,6 +190,10 @@ macro_rules! impl_count {
             #[inline(always)]
             fn increment(&mut self) {
                 *self += 1;
+            }
+            #[inline(always)]
+            fn add(&mut self, other: Self) {
+                *self += other;
             }
             #[inline(always)]
             fn decrement(&mut self) -> bool {
@@ -168,6 +222,27 @@ mod tests {
         assert!(matches!(Csr::new(&[1, 2], &idx), Err(Error::IndptrStart { value: 1 })));
         assert!(matches!(Csr::new(&[0, 2, 1], &idx), Err(Error::IndptrDecreasing { row: 1, .. })));
         assert!(matches!(Csr::new(&[0, 1], &idx), Err(Error::IndptrEnd { value: 1, len: 2 })));
+    }
+
+    #[test]
+    fn shared_counts_equal_serial_counts_and_report_the_first_bad_id() {
+        let mut rng = crate::rng::SplitMix64::new(5);
+        let n = 1000;
+        let mut indices: Vec<i64> = (0..3 << 20).map(|_| rng.below(n) as i64).collect();
+        let indptr = [0i64, 0, indices.len() as i64];
+        let mut indptr = indptr.to_vec();
+        indptr.splice(1..2, std::iter::repeat_n(0, n as usize - 1));
+        let g = Csr::new(&indptr, &indices).unwrap();
+        let serial: Vec<u32> = g.in_degree_counts().unwrap();
+        for threads in [1, 2, 3] {
+            assert_eq!(g.in_degree_counts_shared::<u32>(threads).unwrap(), serial);
+        }
+        let last = indices.len() - 1;
+        indices[last] = -4;
+        indices[2_500_000] = n as i64;
+        let g = Csr::new(&indptr, &indices).unwrap();
+        let e = g.in_degree_counts_shared::<u32>(3).unwrap_err();
+        assert!(matches!(e, Error::IndexOutOfRange { position: 2_500_000, .. }), "{e:?}");
     }
 
     #[test]

@@ -96,22 +96,37 @@ impl<I> Outcome<I> {
 
 /// Run Kahn's algorithm on `csr` under `tie`.
 pub fn kahn<I: Idx>(csr: &Csr<'_, I>, tie: &Tie<'_>) -> Result<Outcome<I>, Error> {
+    kahn_shared(csr, tie, 1)
+}
+
+/// [`kahn`] with the in-degree pass shared among `threads` workers (the
+/// loop itself is sequential by nature); the outcome is the same for every
+/// thread count.
+pub fn kahn_shared<I: Idx>(
+    csr: &Csr<'_, I>,
+    tie: &Tie<'_>,
+    threads: usize,
+) -> Result<Outcome<I>, Error> {
     let n = csr.n();
     if let Tie::Priority(Key { values: Some(values), .. }) = tie {
         check_key(values, n)?;
     }
     if csr.m() <= u32::MAX as usize {
-        run_policy::<I, u32>(csr, tie)
+        run_policy::<I, u32>(csr, tie, threads)
     } else {
-        run_policy::<I, u64>(csr, tie)
+        run_policy::<I, u64>(csr, tie, threads)
     }
 }
 
 /// Kahn's loop with remaining in-degrees kept in `C` (u32 whenever the edge
 /// count allows: half the memory traffic of 64-bit counts on the hot path).
-fn run_policy<I: Idx, C: Count>(csr: &Csr<'_, I>, tie: &Tie<'_>) -> Result<Outcome<I>, Error> {
+fn run_policy<I: Idx, C: Count>(
+    csr: &Csr<'_, I>,
+    tie: &Tie<'_>,
+    threads: usize,
+) -> Result<Outcome<I>, Error> {
     let n = csr.n();
-    let mut indegree: Vec<C> = csr.in_degree_counts()?;
+    let mut indegree: Vec<C> = csr.in_degree_counts_shared(threads)?;
     let mut order: Vec<I> = Vec::with_capacity(n);
     match *tie {
         Tie::Queue => run_queue(csr, &mut indegree, &mut order, &mut ()),
@@ -580,8 +595,8 @@ mod tests {
             assert_eq!(run(Tie::Queue), queue);
             assert_eq!(run(Tie::Stack), stack);
             // The 64-bit count path (used past 2^32 edges) behaves the same.
-            assert_eq!(run_policy::<i64, u64>(&g, &Tie::Queue).unwrap().order, queue);
-            assert_eq!(run_policy::<i64, u64>(&g, &Tie::Stack).unwrap().order, stack);
+            assert_eq!(run_policy::<i64, u64>(&g, &Tie::Queue, 1).unwrap().order, queue);
+            assert_eq!(run_policy::<i64, u64>(&g, &Tie::Stack, 1).unwrap().order, stack);
             assert_eq!(run(Tie::Priority(Key::default())), by_id);
             assert_eq!(run(Tie::Priority(Key { values: None, descending: true })), by_id_desc);
             let f = Key { values: Some(KeyValues::F64(&key)), descending: false };

@@ -31,4 +31,4 @@ pub mod witness;
 pub use csr::Csr;
 pub use error::Error;
 pub use index::Idx;
-pub use kahn::{kahn, Key, KeyValues, Outcome, Tie};
+pub use kahn::{kahn, kahn_shared, Key, KeyValues, Outcome, Tie};

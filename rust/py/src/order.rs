@@ -5,7 +5,7 @@ use pyo3::exceptions::{PyTypeError, PyValueError};
 use pyo3::prelude::*;
 use pyo3::types::PyTuple;
 use toporank_core::verify::Violation;
-use toporank_core::{edges, kahn, verify, Csr, Key, KeyValues, Tie};
+use toporank_core::{edges, kahn_shared, verify, Csr, Key, KeyValues, Tie};
 
 use crate::common::{compute, slice, to_pyerr};
 
@@ -58,7 +58,8 @@ pub(crate) fn make_tie<'a>(
 ///
 /// Returns `(order, blocked, cycle)`; `blocked` and `cycle` are empty for a DAG.
 #[pyfunction]
-#[pyo3(signature = (indptr, indices, tie, key=None, descending=false, seed=0))]
+#[pyo3(signature = (indptr, indices, tie, key=None, descending=false, seed=0, threads=1))]
+#[allow(clippy::too_many_arguments)]
 fn kahn_order<'py>(
     py: Python<'py>,
     indptr: &Bound<'py, PyAny>,
@@ -67,12 +68,15 @@ fn kahn_order<'py>(
     key: Option<&Bound<'py, PyAny>>,
     descending: bool,
     seed: u64,
+    threads: usize,
 ) -> PyResult<Bound<'py, PyTuple>> {
     let key = read_key(key)?;
     let tie = make_tie(tie, &key, descending, seed)?;
     with_index_width!(indptr, indices, I => {
         let (indptr, indices) = (slice(&indptr, "indptr")?, slice(&indices, "indices")?);
-        let outcome = compute(py, || Csr::<I>::new(indptr, indices).and_then(|g| kahn(&g, &tie)))?
+        let outcome = compute(py, || {
+            Csr::<I>::new(indptr, indices).and_then(|g| kahn_shared(&g, &tie, threads))
+        })?
             .map_err(|e| to_pyerr(py, e))?;
         (
             outcome.order.into_pyarray(py),
