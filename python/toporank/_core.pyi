@@ -73,10 +73,9 @@ def path_counts(
 
 __all__ += [
     "condensation",
-    "condensed_order",
     "cut_cycles",
-    "cut_order",
     "cycle_witness",
+    "order_despite_cycles",
     "strong_components",
 ]
 
@@ -84,17 +83,10 @@ def strong_components(indptr: np.ndarray, indices: np.ndarray) -> tuple[np.ndarr
 def condensation(
     indptr: np.ndarray, indices: np.ndarray
 ) -> tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray, np.ndarray]: ...
-def condensed_order(
+def order_despite_cycles(
     indptr: np.ndarray,
     indices: np.ndarray,
-    tie: str,
-    key: np.ndarray | None = None,
-    descending: bool = False,
-    seed: int = 0,
-) -> np.ndarray: ...
-def cut_order(
-    indptr: np.ndarray,
-    indices: np.ndarray,
+    on_cycle: str,
     tie: str,
     key: np.ndarray | None = None,
     descending: bool = False,

@@ -343,5 +343,4 @@ def ordered_despite_cycles(
     g: Graph, on_cycle: str, tie: str, key: np.ndarray | None, descending: bool, seed: int
 ) -> np.ndarray:
     """Node ids of ``order(..., on_cycle="condense" | "cut")`` (arguments already checked)."""
-    run = _core.condensed_order if on_cycle == "condense" else _core.cut_order
-    return run(g.indptr, g.indices, tie, key, descending, seed)
+    return _core.order_despite_cycles(g.indptr, g.indices, on_cycle, tie, key, descending, seed)

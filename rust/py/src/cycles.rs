@@ -1,7 +1,7 @@
 //! Graphs with cycles: components, condensation, witnesses, cycle cuts.
 
 use numpy::{IntoPyArray, PyArray1, PyArrayMethods};
-use pyo3::exceptions::PyTypeError;
+use pyo3::exceptions::{PyTypeError, PyValueError};
 use pyo3::prelude::*;
 use pyo3::types::PyTuple;
 use toporank_core::{condense, cut, scc, witness, Csr};
@@ -57,14 +57,17 @@ fn condensation<'py>(
     })
 }
 
-/// Every node, components contiguous, components in Kahn's order of the
-/// condensation under `tie`.
+/// Every node in an order despite cycles: `on_cycle = "condense"` keeps
+/// each component contiguous, components in Kahn's order of the condensation
+/// under `tie`; `"cut"` is Kahn's order under `tie` once the cycles are cut.
 #[pyfunction]
-#[pyo3(signature = (indptr, indices, tie, key=None, descending=false, seed=0))]
-fn condensed_order<'py>(
+#[pyo3(signature = (indptr, indices, on_cycle, tie, key=None, descending=false, seed=0))]
+#[allow(clippy::too_many_arguments)]
+fn order_despite_cycles<'py>(
     py: Python<'py>,
     indptr: &Bound<'py, PyAny>,
     indices: &Bound<'py, PyAny>,
+    on_cycle: &str,
     tie: &str,
     key: Option<&Bound<'py, PyAny>>,
     descending: bool,
@@ -72,32 +75,18 @@ fn condensed_order<'py>(
 ) -> PyResult<Bound<'py, PyAny>> {
     let key = read_key(key)?;
     let tie = make_tie(tie, &key, descending, seed)?;
+    let condensed = match on_cycle {
+        "condense" => true,
+        "cut" => false,
+        other => return Err(PyValueError::new_err(format!("unknown on_cycle {other:?}"))),
+    };
     with_index_width!(indptr, indices, I => {
         let (indptr, indices) = (slice(&indptr, "indptr")?, slice(&indices, "indices")?);
-        let order = compute(py, || Csr::<I>::new(indptr, indices).and_then(|g| condense::condensed_order(&g, &tie)))?
-            .map_err(|e| to_pyerr(py, e))?;
-        Ok(order.into_pyarray(py).into_any())
-    })
-}
-
-/// Kahn's order under `tie` of the graph left after cutting its cycles.
-#[pyfunction]
-#[pyo3(signature = (indptr, indices, tie, key=None, descending=false, seed=0))]
-fn cut_order<'py>(
-    py: Python<'py>,
-    indptr: &Bound<'py, PyAny>,
-    indices: &Bound<'py, PyAny>,
-    tie: &str,
-    key: Option<&Bound<'py, PyAny>>,
-    descending: bool,
-    seed: u64,
-) -> PyResult<Bound<'py, PyAny>> {
-    let key = read_key(key)?;
-    let tie = make_tie(tie, &key, descending, seed)?;
-    with_index_width!(indptr, indices, I => {
-        let (indptr, indices) = (slice(&indptr, "indptr")?, slice(&indices, "indices")?);
-        let order = compute(py, || Csr::<I>::new(indptr, indices).and_then(|g| cut::cut_order(&g, &tie)))?
-            .map_err(|e| to_pyerr(py, e))?;
+        let order = compute(py, || {
+            let g = Csr::<I>::new(indptr, indices)?;
+            if condensed { condense::condensed_order(&g, &tie) } else { cut::cut_order(&g, &tie) }
+        })?
+        .map_err(|e| to_pyerr(py, e))?;
         Ok(order.into_pyarray(py).into_any())
     })
 }
@@ -146,8 +135,7 @@ fn cut_cycles<'py>(
 pub(crate) fn register(m: &Bound<'_, PyModule>) -> PyResult<()> {
     m.add_function(wrap_pyfunction!(strong_components, m)?)?;
     m.add_function(wrap_pyfunction!(condensation, m)?)?;
-    m.add_function(wrap_pyfunction!(condensed_order, m)?)?;
-    m.add_function(wrap_pyfunction!(cut_order, m)?)?;
+    m.add_function(wrap_pyfunction!(order_despite_cycles, m)?)?;
     m.add_function(wrap_pyfunction!(cycle_witness, m)?)?;
     m.add_function(wrap_pyfunction!(cut_cycles, m)?)?;
     Ok(())
