@@ -296,33 +296,14 @@ mod tests {
     use crate::kahn::kahn;
     use crate::scc::strong_components;
     use crate::scc::tests::random_csr;
+    use crate::testing::random_dag;
     use crate::KeyValues;
-
-    fn random_dag(rng: &mut SplitMix64) -> (Vec<i64>, Vec<i64>) {
-        let n = rng.below(13) as usize;
-        let m = if n < 2 { 0 } else { rng.below(30) as usize };
-        let mut perm: Vec<i64> = (0..n as i64).collect();
-        for i in (1..n).rev() {
-            perm.swap(i, rng.below(i as u64 + 1) as usize);
-        }
-        let (mut src, mut dst) = (Vec::new(), Vec::new());
-        for _ in 0..m {
-            let a = rng.below(n as u64) as usize;
-            let b = rng.below(n as u64) as usize;
-            if a != b {
-                src.push(perm[a.min(b)]);
-                dst.push(perm[a.max(b)]);
-            }
-        }
-        let g = edges_to_csr(&src, &dst, n, false).unwrap();
-        (g.indptr, g.indices)
-    }
 
     #[test]
     fn on_a_dag_every_policy_equals_kahn() {
         let mut rng = SplitMix64::new(17);
         for round in 0..400 {
-            let (indptr, indices) = random_dag(&mut rng);
+            let (indptr, indices) = random_dag(&mut rng, 13, 30);
             let g = Csr::new(&indptr, &indices).unwrap();
             let key: Vec<f64> = (0..g.n()).map(|_| rng.below(3) as f64).collect();
             let ties = [

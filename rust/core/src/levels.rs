@@ -163,6 +163,7 @@ mod tests {
     use super::*;
     use crate::edges::edges_to_csr;
     use crate::rng::SplitMix64;
+    use crate::testing::random_dag_edges;
 
     /// Levels by the definition, relaxing every edge until nothing changes
     /// (Bellman-Ford style, quadratic but obviously right on a DAG).
@@ -182,23 +183,6 @@ mod tests {
         }
     }
 
-    fn random_dag(rng: &mut SplitMix64, n: usize, m: usize) -> (Vec<i64>, Vec<i64>) {
-        let mut perm: Vec<i64> = (0..n as i64).collect();
-        for i in (1..n).rev() {
-            perm.swap(i, rng.below(i as u64 + 1) as usize);
-        }
-        let (mut src, mut dst) = (Vec::new(), Vec::new());
-        for _ in 0..m {
-            let a = rng.below(n as u64) as usize;
-            let b = rng.below(n as u64) as usize;
-            if a != b {
-                src.push(perm[a.min(b)]);
-                dst.push(perm[a.max(b)]);
-            }
-        }
-        (src, dst)
-    }
-
     #[test]
     fn serial_and_parallel_levels_match_the_definition() {
         let mut rng = SplitMix64::new(11);
@@ -206,7 +190,7 @@ mod tests {
             // Some graphs wide enough that frontiers go to the pool.
             let n = if round % 4 == 0 { 5000 } else { 1 + rng.below(40) as usize };
             let m = rng.below(4 * n as u64) as usize;
-            let (src, dst) = random_dag(&mut rng, n, m);
+            let (src, dst) = random_dag_edges(&mut rng, n, m);
             let g = edges_to_csr(&src, &dst, n, false).unwrap();
             let csr = Csr::new(&g.indptr, &g.indices).unwrap();
             let expected = reference_levels(n, &src, &dst);

@@ -25,6 +25,8 @@ pub mod rng;
 pub mod scc;
 pub mod schedule;
 pub mod sweep;
+#[cfg(test)]
+mod testing;
 pub mod verify;
 pub mod witness;
 

@@ -263,9 +263,9 @@ fn count_inversions(values: &mut Vec<usize>) -> u128 {
 #[cfg(test)]
 mod tests {
     use super::*;
-    use crate::edges::edges_to_csr;
     use crate::kahn::{kahn, Tie};
     use crate::rng::SplitMix64;
+    use crate::testing::random_dag;
 
     /// Each measure straight from its definition, step by step (O(n^2)).
     fn reference(indptr: &[i64], indices: &[i64], order: &[i64]) -> OrderMetrics<i64> {
@@ -307,28 +307,11 @@ mod tests {
         }
     }
 
-    fn random_dag(rng: &mut SplitMix64) -> (Vec<i64>, Vec<i64>) {
-        let n = rng.below(14) as usize;
-        let m = if n < 2 { 0 } else { rng.below(40) as usize };
-        let (mut src, mut dst) = (Vec::new(), Vec::new());
-        for _ in 0..m {
-            let a = rng.below(n as u64) as i64;
-            let b = rng.below(n as u64) as i64;
-            if a != b {
-                // Reversed ids, so id order is not the topological order.
-                src.push(a.max(b));
-                dst.push(a.min(b));
-            }
-        }
-        let g = edges_to_csr(&src, &dst, n, false).unwrap();
-        (g.indptr, g.indices)
-    }
-
     #[test]
     fn measures_match_their_definitions() {
         let mut rng = SplitMix64::new(11);
         for round in 0..300 {
-            let (indptr, indices) = random_dag(&mut rng);
+            let (indptr, indices) = random_dag(&mut rng, 14, 40);
             let g = Csr::new(&indptr, &indices).unwrap();
             for tie in [Tie::Queue, Tie::Stack, Tie::Random { seed: round }] {
                 let order = kahn(&g, &tie).unwrap().order;
@@ -379,7 +362,7 @@ mod tests {
     fn agreement_counts_match_all_pairs() {
         let mut rng = SplitMix64::new(5);
         for _ in 0..300 {
-            let (indptr, indices) = random_dag(&mut rng);
+            let (indptr, indices) = random_dag(&mut rng, 14, 40);
             let g = Csr::new(&indptr, &indices).unwrap();
             let n = g.n();
             let rank: Vec<i64> =

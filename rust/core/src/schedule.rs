@@ -392,18 +392,8 @@ mod tests {
     }
 
     fn random_dag(rng: &mut SplitMix64) -> (Vec<i64>, Vec<i64>, usize) {
-        let n = rng.below(16) as usize;
-        let m = if n < 2 { 0 } else { rng.below(40) as usize };
-        let (mut src, mut dst) = (Vec::new(), Vec::new());
-        for _ in 0..m {
-            let a = rng.below(n as u64) as i64;
-            let b = rng.below(n as u64) as i64;
-            if a != b {
-                src.push(a.max(b));
-                dst.push(a.min(b));
-            }
-        }
-        let (indptr, indices) = graph(&src, &dst, n);
+        let (indptr, indices) = crate::testing::random_dag(rng, 16, 40);
+        let n = indptr.len() - 1;
         (indptr, indices, n)
     }
 
