@@ -224,11 +224,17 @@ def run(out: str, *, progress: bool = True) -> int:
         f"  toporank order {paths['citations']} --columns cited,citing --tie priority "
         f"--key {paths['years']} --on-cycle {journal_on_cycle} -o order.csv --summary summary.json"
     )
-    print(f"  toporank order {paths['imports']} --columns imports,module")
+    print(f"  toporank order {paths['imports']} --columns imports,module --on-cycle cut")
     print(f"  toporank cycles {paths['imports']} --columns imports,module --cut")
+    try:
+        import matplotlib  # noqa: F401
+
+        plot = " --plot policies.png"
+    except ImportError:
+        plot = "  (add --plot policies.png after pip install 'toporank[plot]')"
     print(
         f"  toporank compare {paths['citations']} --columns cited,citing --key {paths['years']} "
-        "--workers 4 --on-cycle cut --plot policies.png"
+        f"--workers 4 --on-cycle cut{plot}"
     )
     print(f"\ndone in {time.perf_counter() - started:.2f} s")
     return 0
