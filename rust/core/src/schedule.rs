@@ -29,6 +29,7 @@ use std::cmp::Reverse;
 use std::collections::{BinaryHeap, VecDeque};
 use std::fmt::Debug;
 
+use crate::heap::QuadHeap;
 use crate::kahn::{kahn, prefetch, Outcome, Tie};
 use crate::rng::SplitMix64;
 use crate::{Csr, Error, Idx};
@@ -186,8 +187,15 @@ fn sweep<I: Idx, T: Duration>(csr: &Csr<'_, I>, durations: &[T], order: &[I]) ->
 enum ReadySet<'a, I> {
     Queue(VecDeque<I>),
     Stack(Vec<I>),
-    Ranked { heap: BinaryHeap<Reverse<(u64, I)>>, rank: Option<&'a [u64]> },
-    Random { items: Vec<I>, rng: SplitMix64 },
+    /// Entries pack `(rank, task)` so one integer comparison orders them.
+    Ranked {
+        heap: QuadHeap<u128>,
+        rank: Option<&'a [u64]>,
+    },
+    Random {
+        items: Vec<I>,
+        rng: SplitMix64,
+    },
 }
 
 impl<I: Idx> ReadySet<'_, I> {
@@ -198,7 +206,7 @@ impl<I: Idx> ReadySet<'_, I> {
             ReadySet::Stack(s) => s.push(task),
             ReadySet::Ranked { heap, rank } => {
                 let r = rank.map_or(0, |rank| rank[task.to_usize()]);
-                heap.push(Reverse((r, task)))
+                heap.push(((r as u128) << 64) | task.to_usize() as u128)
             }
             ReadySet::Random { items, .. } => items.push(task),
         }
@@ -209,7 +217,9 @@ impl<I: Idx> ReadySet<'_, I> {
         match self {
             ReadySet::Queue(q) => q.pop_front(),
             ReadySet::Stack(s) => s.pop(),
-            ReadySet::Ranked { heap, .. } => heap.pop().map(|Reverse((_, task))| task),
+            ReadySet::Ranked { heap, .. } => {
+                heap.pop().map(|entry| I::from_usize(entry as u64 as usize))
+            }
             ReadySet::Random { items, rng } => {
                 if items.is_empty() {
                     return None;
@@ -256,7 +266,7 @@ pub fn list_schedule<I: Idx, T: Duration>(
                     });
                 }
             }
-            ReadySet::Ranked { heap: BinaryHeap::new(), rank }
+            ReadySet::Ranked { heap: QuadHeap::new(), rank }
         }
         Policy::CriticalPath => {
             let outcome = kahn(csr, &Tie::Queue)?;
@@ -266,7 +276,7 @@ pub fn list_schedule<I: Idx, T: Duration>(
             let level = sweep(csr, durations, &outcome.order);
             // Complemented so that the smallest rank is the largest level.
             critical_rank = level.iter().map(|l| !l.sort_key()).collect();
-            ReadySet::Ranked { heap: BinaryHeap::new(), rank: Some(&critical_rank) }
+            ReadySet::Ranked { heap: QuadHeap::new(), rank: Some(&critical_rank) }
         }
     };
     for (v, &(_, left)) in waiting.iter().enumerate() {
