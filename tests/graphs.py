@@ -48,3 +48,31 @@ def check_topological(src, dst, n, order):
     position = np.empty(n, dtype=np.int64)
     position[order] = np.arange(n)
     assert np.all(position[src] < position[dst])
+
+
+def ticks_inside(run, repeat):
+    """How often this thread ran while another thread was inside ``run()``.
+
+    Common practice: a call that holds the GIL throughout lets no other
+    Python thread run inside it (beyond the interpreter's switches at its
+    edges, which the 2 ms margins exclude), so a count well above zero shows
+    the GIL was released.
+    """
+    import threading
+    import time
+
+    windows: list[tuple[float, float]] = []
+
+    def work():
+        for _ in range(repeat):
+            start = time.perf_counter()
+            run()
+            windows.append((start, time.perf_counter()))
+
+    ticks: list[float] = []
+    worker = threading.Thread(target=work)
+    worker.start()
+    while worker.is_alive():
+        ticks.append(time.perf_counter())
+    worker.join()
+    return sum(1 for t in ticks for a, b in windows if a + 0.002 < t < b - 0.002)

@@ -9,7 +9,7 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 
 import toporank
-from graphs import edge_lists
+from graphs import edge_lists, ticks_inside
 
 
 def check_feasible(src, dst, durations, s):
@@ -175,8 +175,6 @@ def test_cycles_are_reported():
 
 @pytest.mark.parametrize("call", ["list_schedule", "bottom_levels", "order_metrics"])
 def test_core_calls_release_the_gil(call):
-    import threading
-    import time
 
     from toporank import _core
     from toporank._synthetic import citation_dag
@@ -191,21 +189,5 @@ def test_core_calls_release_the_gil(call):
         "bottom_levels": lambda: _core.bottom_levels(g.indptr, g.indices, unit),
         "order_metrics": lambda: _core.order_metrics(g.indptr, g.indices, order),
     }[call]
-    windows: list[tuple[float, float]] = []
-
-    def work():
-        for _ in range(3):
-            start = time.perf_counter()
-            run()
-            windows.append((start, time.perf_counter()))
-
-    ticks: list[float] = []
-    worker = threading.Thread(target=work)
-    worker.start()
-    while worker.is_alive():
-        ticks.append(time.perf_counter())
-    worker.join()
-    # Common practice: a thread that holds the GIL for a whole call lets no
-    # other Python thread run inside it (beyond switches at its edges).
-    inside = sum(1 for t in ticks for a, b in windows if a + 0.002 < t < b - 0.002)
-    assert inside > 100, (inside, windows)
+    inside = ticks_inside(run, repeat=3)
+    assert inside > 100, inside
