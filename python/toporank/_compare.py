@@ -19,7 +19,7 @@ import numpy as np
 
 from . import _core
 from ._errors import CyclicGraphError, GraphInputError
-from ._graph import Graph, as_graph, as_nodes, node_key
+from ._graph import Graph, as_graph, as_nodes, node_key, positive_int
 from ._metrics import OrderMetrics, dense_rank, measure
 from ._order import _policy_arguments
 from ._schedule import (
@@ -363,7 +363,7 @@ def compare(
     """
     g = as_graph(graph, n)
     chosen = _check_ties(ties)
-    runs = _positive(repeat, "repeat")
+    runs = positive_int(repeat, "repeat")
     count = None if workers is None else worker_count(workers)
     if key is None and descending:
         raise GraphInputError("descending applies to a key; pass key=... as well")
@@ -423,18 +423,6 @@ def _check_ties(ties: Iterable[str]) -> tuple[str, ...]:
     if repeated:
         raise GraphInputError(f"ties lists {repeated[0]!r} more than once")
     return chosen
-
-
-def _positive(value: Any, name: str) -> int:
-    try:
-        if isinstance(value, bool):
-            raise TypeError
-        number = operator.index(value)
-    except TypeError:
-        raise GraphInputError(f"{name} must be an integer, got {value!r}") from None
-    if number < 1:
-        raise GraphInputError(f"{name} must be at least 1, got {number}")
-    return number
 
 
 def _order_function(

@@ -7,6 +7,7 @@ works). int32 and int64 index arrays are used without copying.
 
 from __future__ import annotations
 
+import operator
 import os
 from collections.abc import Hashable, Iterable, Mapping
 from dataclasses import dataclass, field
@@ -423,3 +424,20 @@ def thread_count(threads: int | None) -> int:
     if isinstance(threads, bool) or not isinstance(threads, (int, np.integer)) or threads < 1:
         raise GraphInputError(f"threads must be a positive integer, got {threads!r}{where}")
     return int(threads)
+
+
+def positive_int(value: Any, name: str, too_small: str | None = None) -> int:
+    """``value`` as an int of at least 1, or a GraphInputError naming it (bools refused).
+
+    ``too_small`` words the error for values below 1 (``{number}`` is filled in).
+    """
+    try:
+        if isinstance(value, bool):
+            raise TypeError
+        number = operator.index(value)
+    except TypeError:
+        raise GraphInputError(f"{name} must be an integer, got {value!r}") from None
+    if number < 1:
+        message = too_small or "{name} must be at least 1, got {number}"
+        raise GraphInputError(message.format(name=name, number=number))
+    return number

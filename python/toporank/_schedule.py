@@ -2,7 +2,6 @@
 
 from __future__ import annotations
 
-import operator
 from dataclasses import dataclass, field
 from typing import Any, Literal, NoReturn
 
@@ -10,7 +9,7 @@ import numpy as np
 
 from . import _core
 from ._errors import CyclicGraphError, GraphInputError
-from ._graph import Graph, as_graph, as_nodes, node_key
+from ._graph import Graph, as_graph, as_nodes, node_key, positive_int
 from ._metrics import dense_rank
 from ._order import TIES, _policy_arguments
 
@@ -246,15 +245,9 @@ def priority_rank(g: Graph, key: np.ndarray | None, descending: bool) -> np.ndar
 
 def worker_count(workers: Any) -> int:
     """``workers`` as a positive int, or a GraphInputError naming it."""
-    try:
-        if isinstance(workers, bool):
-            raise TypeError
-        count = operator.index(workers)
-    except TypeError:
-        raise GraphInputError(f"workers must be an integer, got {workers!r}") from None
-    if count < 1:
-        raise GraphInputError(f"workers = {count}; a schedule needs at least one worker")
-    return count
+    return positive_int(
+        workers, "workers", "workers = {number}; a schedule needs at least one worker"
+    )
 
 
 def task_durations(g: Graph, duration: Any) -> np.ndarray:
