@@ -2,7 +2,9 @@
 
 use std::fmt;
 
-/// Everything that can go wrong on user input. Each variant carries the
+/// Everything that can go wrong: input errors (most variants), resources
+/// ([`Error::Allocation`], [`Error::ThreadPool`]), a stop request
+/// ([`Error::Interrupted`]) and bugs ([`Error::Internal`]). Each variant carries the
 /// offending value so the message can name it.
 #[derive(Debug, Clone, PartialEq, Eq)]
 pub enum Error {
@@ -34,6 +36,15 @@ pub enum Error {
     ThreadPool { threads: usize, reason: String },
     /// A single node argument is not a node of the graph.
     NoSuchNode { what: &'static str, value: i128, n: usize },
+    /// Memory for `count` items of `bytes_each` bytes (sized by the input)
+    /// could not be reserved.
+    Allocation { what: &'static str, count: usize, bytes_each: usize },
+    /// The caller asked to stop (Ctrl-C reached a long loop).
+    Interrupted,
+    /// An input array changed while the call was reading it.
+    InputChanged { what: &'static str },
+    /// A broken internal invariant: a bug, never the user's input.
+    Internal { reason: String },
 }
 
 impl fmt::Display for Error {
@@ -79,6 +90,23 @@ impl fmt::Display for Error {
             }
             Error::NoSuchNode { what, value, n } => {
                 write!(f, "{what} = {value} is not a node id; ids must lie in 0..{n} (n = {n})")
+            }
+            Error::Allocation { what, count, bytes_each } => {
+                let bytes = (*count as u128) * (*bytes_each as u128);
+                write!(
+                    f,
+                    "cannot allocate {what}: {count} entries of {bytes_each} bytes \
+                     ({bytes} bytes) do not fit in memory"
+                )
+            }
+            Error::Interrupted => write!(f, "interrupted"),
+            Error::InputChanged { what } => write!(
+                f,
+                "{what} changed during the call; arrays passed in must not be modified \
+                 until the call returns"
+            ),
+            Error::Internal { reason } => {
+                write!(f, "toporank internal error (please report): {reason}")
             }
         }
     }

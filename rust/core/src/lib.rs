@@ -8,6 +8,7 @@
 //! Every failure that input can cause is reported as an [`Error`]; no
 //! function here panics on user data.
 
+pub mod alloc;
 pub mod condense;
 pub mod critical;
 pub mod csr;
@@ -16,6 +17,7 @@ pub mod edges;
 pub mod error;
 pub mod heap;
 pub mod index;
+pub mod interrupt;
 pub mod kahn;
 pub mod levels;
 pub mod metrics;
