@@ -152,7 +152,9 @@ fn weights<'a>(array: &'a Option<Array<'_, f64>>, default: f64) -> PyResult<Weig
 /// Critical path (a `CriticalPath`), or a `Cyclic`. Missing node weights
 /// are 0; missing edge weights are `default_edge_weight`.
 #[pyfunction]
-#[pyo3(signature = (indptr, indices, node_weight=None, edge_weight=None, default_edge_weight=1.0, threads=1))]
+#[pyo3(signature = (
+    indptr, indices, node_weight=None, edge_weight=None, default_edge_weight=1.0, threads=1
+))]
 fn critical_path<'py>(
     py: Python<'py>,
     indptr: &Bound<'py, PyAny>,
