@@ -3,7 +3,6 @@
 from __future__ import annotations
 
 import csv
-import doctest
 import io
 import json
 import math
@@ -13,7 +12,6 @@ import numpy as np
 import pytest
 
 import toporank
-from toporank import _compare, _metrics, _schedule
 from toporank._synthetic import citation_dag
 
 
@@ -142,10 +140,3 @@ def test_bad_arguments_are_named():
         toporank.compare(np.array([[0, 1], [1, 0]]), ("queue",))
     with pytest.raises(toporank.CyclicGraphError):
         toporank.compare(np.array([[0, 1], [1, 0]]), ("critical",))
-
-
-@pytest.mark.parametrize("module", [_metrics, _schedule, _compare])
-def test_docstring_examples(module):
-    flags = doctest.NORMALIZE_WHITESPACE | doctest.ELLIPSIS
-    result = doctest.testmod(module, optionflags=flags)
-    assert result.attempted > 0 and result.failed == 0
