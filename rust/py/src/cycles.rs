@@ -118,7 +118,10 @@ fn order_despite_cycles<'py>(
     let condensed = match on_cycle {
         "condense" => true,
         "cut" => false,
-        other => return Err(input_error(format!("on_cycle {other:?} is not condense or cut"))),
+        other => {
+            let choices = "('condense', 'cut')";
+            return Err(input_error(format!("on_cycle must be one of {choices}, got '{other}'")));
+        }
     };
     on_graph(py, indptr, indices, OrderDespiteCycles { condensed, tie })
 }

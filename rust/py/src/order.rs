@@ -48,7 +48,10 @@ pub(crate) fn make_tie<'a>(
         "stack" => Tie::Stack,
         "priority" => Tie::Priority(Key { values, descending }),
         "random" => Tie::Random { seed },
-        other => return Err(input_error(format!("tie {other:?} is not a tie-break policy"))),
+        other => {
+            let choices = "('queue', 'stack', 'priority', 'random')";
+            return Err(input_error(format!("tie must be one of {choices}, got '{other}'")));
+        }
     })
 }
 

@@ -113,7 +113,10 @@ fn list_schedule<'py>(
         "priority" => Policy::Ranked(rank),
         "random" => Policy::Random { seed },
         "critical" => Policy::CriticalPath,
-        other => return Err(input_error(format!("tie {other:?} is not a schedule policy"))),
+        other => {
+            let choices = "('queue', 'stack', 'priority', 'random', 'critical')";
+            return Err(input_error(format!("tie must be one of {choices}, got '{other}'")));
+        }
     };
     let durations = read_durations(durations)?;
     on_graph(py, indptr, indices, ListSchedule { durations: &durations, workers, policy })
