@@ -31,6 +31,7 @@ from ._validate import (
     positive_int,
     raise_cycle,
     random_seed,
+    tie_list,
     worker_count,
 )
 from ._validate import (
@@ -368,7 +369,7 @@ def compare(
     array(['src', 'fmt', 'lint', 'docs', 'parse', 'check', 'emit'], dtype=object)
     """
     g = as_graph(graph, n)
-    chosen = _check_ties(ties)
+    chosen = tie_list(ties)
     runs = positive_int(repeat, "repeat")
     count = None if workers is None else worker_count(workers)
     if key is None and descending:
@@ -414,21 +415,6 @@ def compare(
         m=g.m,
         repeat=runs,
     )
-
-
-def _check_ties(ties: Iterable[str]) -> tuple[str, ...]:
-    if isinstance(ties, str):
-        ties = (ties,)
-    chosen = tuple(ties)
-    if not chosen:
-        raise GraphInputError(f"ties is empty; choose among {SCHEDULE_TIES}")
-    for tie in chosen:
-        if tie not in SCHEDULE_TIES:
-            raise GraphInputError(f"unknown tie {tie!r}; choose among {SCHEDULE_TIES}")
-    repeated = [t for t in SCHEDULE_TIES if chosen.count(t) > 1]
-    if repeated:
-        raise GraphInputError(f"ties lists {repeated[0]!r} more than once")
-    return chosen
 
 
 def _order_function(

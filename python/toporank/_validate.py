@@ -158,6 +158,20 @@ def policy(
     return key_array, (random_seed(seed) if tie == "random" else 0)
 
 
+def tie_list(ties: Any) -> tuple[str, ...]:
+    """Policies to compare: a non-empty selection of :data:`SCHEDULE_TIES`, each once."""
+    chosen = (ties,) if isinstance(ties, str) else tuple(ties)
+    if not chosen:
+        raise GraphInputError(f"ties is empty; tie must be one of {SCHEDULE_TIES}")
+    for tie in chosen:
+        if not isinstance(tie, str) or tie not in SCHEDULE_TIES:
+            raise GraphInputError(f"tie must be one of {SCHEDULE_TIES}, got {show(tie)}")
+    repeated = [t for t in SCHEDULE_TIES if chosen.count(t) > 1]
+    if repeated:
+        raise GraphInputError(f"ties lists {repeated[0]!r} more than once")
+    return chosen
+
+
 def random_seed(seed: Any) -> int:
     """A seed in ``0..2**64 - 1``; ``None`` draws fresh entropy."""
     if seed is None:
