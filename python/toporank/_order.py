@@ -80,8 +80,9 @@ def order(
     threads
         Workers sharing the in-degree pass on graphs of millions of edges
         (the loop itself is sequential). ``None`` reads the environment
-        variable ``TOPORANK_NUM_THREADS``, else uses every usable core. The
-        order is the same for every thread count.
+        variable ``TOPORANK_NUM_THREADS``, else uses every usable core;
+        counts beyond the usable cores are capped to them. The order is the
+        same for every thread count.
 
     Returns
     -------

@@ -239,7 +239,9 @@ def node_key(g: Graph, key: Any, name: str = "key") -> np.ndarray:
         array = np.ascontiguousarray(array, dtype=np.float64)
         nan = np.flatnonzero(np.isnan(array))
         if len(nan):
-            raise GraphInputError(f"{name}[{nan[0]}] is NaN{_label_note(g, int(nan[0]))}")
+            # the core's wording for keys (it checks too, as an invariant)
+            why = "; keys must be comparable" if name == "key" else ""
+            raise GraphInputError(f"{name}[{nan[0]}] is NaN{_label_note(g, int(nan[0]))}{why}")
         return array
     if kind == "i":
         return np.ascontiguousarray(array, dtype=np.int64)

@@ -66,10 +66,10 @@ pub(crate) fn read<'py, T: Element>(
     expected: &str,
 ) -> PyResult<Array<'py, T>> {
     let array = object.cast::<PyArray1<T>>().map_err(|_| {
-        let found = object
-            .getattr("dtype")
-            .map(|d| d.to_string())
-            .unwrap_or_else(|_| object.get_type().to_string());
+        let found = match (object.getattr("dtype"), object.getattr("shape")) {
+            (Ok(dtype), Ok(shape)) => format!("dtype {dtype} and shape {shape}"),
+            _ => object.get_type().to_string(),
+        };
         input_error(format!("{name} must be a 1-D numpy array of {expected}, got {found}"))
     })?;
     let array = array.readonly();
