@@ -27,10 +27,10 @@ from ._schedule import (
 )
 from ._validate import (
     SCHEDULE_TIES,
-    node_key,
     positive_int,
     raise_cycle,
     random_seed,
+    reference_key,
     tie_list,
     worker_count,
 )
@@ -372,9 +372,7 @@ def compare(
     chosen = tie_list(ties)
     runs = positive_int(repeat, "repeat")
     count = None if workers is None else worker_count(workers)
-    if key is None and descending:
-        raise GraphInputError("descending applies to a key; pass key=... as well")
-    key_array = None if key is None else node_key(g, key)
+    key_array = reference_key(g, key, descending)
     rank = None if key_array is None else dense_rank(key_array, descending)
     seed_value = random_seed(seed)
     durations = task_durations(g, duration)

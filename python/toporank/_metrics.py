@@ -8,10 +8,9 @@ from typing import Any
 import numpy as np
 
 from . import _core
-from ._errors import GraphInputError
 from ._graph import Graph, as_graph
 from ._order import order_error
-from ._validate import node_ids, node_key
+from ._validate import node_ids, reference_key
 
 __all__ = ["OrderMetrics", "order_metrics"]
 
@@ -186,9 +185,8 @@ def order_metrics(
     """
     g = as_graph(graph, n)
     ids, given = node_ids(g, order, "order")
-    if key is None and descending:
-        raise GraphInputError("descending applies to a reference key; pass key=... as well")
-    rank = None if key is None else dense_rank(node_key(g, key), descending)
+    key_array = reference_key(g, key, descending)
+    rank = None if key_array is None else dense_rank(key_array, descending)
     return measure(g, ids, rank, given)
 
 

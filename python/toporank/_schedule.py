@@ -8,7 +8,6 @@ from typing import Any, Literal
 import numpy as np
 
 from . import _core
-from ._errors import GraphInputError
 from ._graph import Graph, as_graph, as_nodes
 from ._metrics import dense_rank
 from ._validate import SCHEDULE_TIES, policy, raise_cycle, worker_count
@@ -200,13 +199,8 @@ def run_schedule(
 ) -> Schedule:
     """:func:`schedule` on a normalised graph."""
     count = worker_count(workers)
-    if tie == "critical":
-        if key is not None or descending or seed is not None:
-            raise GraphInputError("key, descending and seed do not apply to tie='critical'")
-        rank, seed_value = None, 0
-    else:
-        key_array, seed_value = policy(g, tie, key, descending, seed, SCHEDULE_TIES)
-        rank = priority_rank(g, key_array, descending) if tie == "priority" else None
+    key_array, seed_value = policy(g, tie, key, descending, seed, SCHEDULE_TIES)
+    rank = priority_rank(g, key_array, descending) if tie == "priority" else None
     durations = task_durations(g, duration)
     # Workers beyond the task count stay idle; capping keeps huge counts in range.
     slots = min(count, max(g.n, 1))

@@ -150,6 +150,10 @@ def policy(
     """The key array (or ``None``) and the seed of a tie-break policy."""
     if not isinstance(tie, str) or tie not in ties:
         raise GraphInputError(f"tie must be one of {ties}, got {show(tie)}")
+    if tie == "critical":
+        if key is not None or descending or seed is not None:
+            raise GraphInputError("key, descending and seed do not apply to tie='critical'")
+        return None, 0
     if tie != "priority" and (key is not None or descending):
         raise GraphInputError(f"key and descending apply to tie='priority', not to tie={tie!r}")
     if tie != "random" and seed is not None:
@@ -170,6 +174,15 @@ def tie_list(ties: Any) -> tuple[str, ...]:
     if repeated:
         raise GraphInputError(f"ties lists {repeated[0]!r} more than once")
     return chosen
+
+
+def reference_key(g: Graph, key: Any, descending: Any) -> np.ndarray | None:
+    """A reference key to compare orders with (``None`` without one)."""
+    if key is None:
+        if descending:
+            raise GraphInputError("descending applies to a key; pass key=... as well")
+        return None
+    return node_key(g, key)
 
 
 def random_seed(seed: Any) -> int:
