@@ -3,7 +3,6 @@
 from __future__ import annotations
 
 import csv
-import doctest
 import io
 import json
 import math
@@ -13,7 +12,6 @@ import numpy as np
 import pytest
 
 import toporank
-from toporank import _compare, _metrics, _schedule
 from toporank._synthetic import citation_dag
 
 
@@ -126,7 +124,7 @@ def test_chain_and_isolated_nodes():
 
 def test_bad_arguments_are_named():
     edges = np.array([[0, 1]])
-    with pytest.raises(toporank.GraphInputError, match="unknown tie 'lifo'"):
+    with pytest.raises(toporank.GraphInputError, match=r"tie must be one of .*, got 'lifo'"):
         toporank.compare(edges, ("queue", "lifo"))
     with pytest.raises(toporank.GraphInputError, match="'queue' more than once"):
         toporank.compare(edges, ("queue", "stack", "queue"))
@@ -142,10 +140,3 @@ def test_bad_arguments_are_named():
         toporank.compare(np.array([[0, 1], [1, 0]]), ("queue",))
     with pytest.raises(toporank.CyclicGraphError):
         toporank.compare(np.array([[0, 1], [1, 0]]), ("critical",))
-
-
-@pytest.mark.parametrize("module", [_metrics, _schedule, _compare])
-def test_docstring_examples(module):
-    flags = doctest.NORMALIZE_WHITESPACE | doctest.ELLIPSIS
-    result = doctest.testmod(module, optionflags=flags)
-    assert result.attempted > 0 and result.failed == 0

@@ -92,7 +92,7 @@ def test_cycles_raise_with_a_real_cycle():
         with pytest.raises(CyclicGraphError):
             toporank.heights(pairs, threads=threads)
     with pytest.raises(GraphInputError, match="on_cycle"):
-        toporank.levels(pairs, on_cycle="condense")
+        toporank.levels(pairs, on_cycle="skip")
 
 
 def test_thread_counts_are_checked(monkeypatch):
@@ -132,3 +132,66 @@ def test_a_forked_child_gets_fresh_workers():
         if child.is_alive():
             child.kill()
     assert child.exitcode == 0
+
+
+def _generation_of(graph):
+    """Per node: its index in networkx.topological_generations of a DAG."""
+    level = {}
+    for k, group in enumerate(nx.topological_generations(graph)):
+        for v in group:
+            level[v] = k
+    return level
+
+
+def _on_cycle_reference(src, dst, n, on_cycle, backward):
+    """levels (heights when ``backward``) under ``on_cycle``, computed with networkx."""
+    graph = to_networkx(src, dst, n)
+    if on_cycle == "cut":
+        # the cut is ours; the levels of what remains are networkx's
+        removed = set(toporank.cut_cycles((src, dst), n=n).edge_index.tolist())
+        keep = [k for k in range(len(src)) if k not in removed]
+        graph = to_networkx(src[keep], dst[keep], n)
+    if backward:
+        graph = graph.reverse()
+    if on_cycle == "condense":
+        condensed = nx.condensation(nx.DiGraph(graph))
+        level = _generation_of(condensed)
+        mapping = condensed.graph["mapping"]
+        return [level[mapping[v]] for v in range(n)]
+    if on_cycle == "partial":
+        # nodes on a cycle (a component of 2+ nodes, or a self-loop) and all they reach
+        cyclic = {v for c in nx.strongly_connected_components(graph) if len(c) > 1 for v in c}
+        cyclic |= set(nx.nodes_with_selfloops(graph))
+        behind = set(cyclic)
+        for v in cyclic:
+            behind |= nx.descendants(graph, v)
+        level = _generation_of(graph.subgraph(set(range(n)) - behind))
+        return [level.get(v, -1) for v in range(n)]
+    level = _generation_of(graph)
+    return [level[v] for v in range(n)]
+
+
+@pytest.mark.parametrize("on_cycle", ["partial", "condense", "cut"])
+@given(graph=edge_lists())
+def test_levels_and_heights_despite_cycles_equal_networkx(on_cycle, graph):
+    # Reference: networkx.topological_generations, condensation, descendants.
+    src, dst, n = graph
+    ours = toporank.levels((src, dst), n=n, on_cycle=on_cycle).tolist()
+    assert ours == _on_cycle_reference(src, dst, n, on_cycle, backward=False)
+    ours = toporank.heights((src, dst), n=n, on_cycle=on_cycle).tolist()
+    assert ours == _on_cycle_reference(src, dst, n, on_cycle, backward=True)
+    grouped = toporank.levels((src, dst), n=n, on_cycle=on_cycle, grouped=True)
+    flat = toporank.levels((src, dst), n=n, on_cycle=on_cycle)
+    for k, group in enumerate(grouped):
+        assert group.tolist() == np.flatnonzero(flat == k).tolist()
+
+
+def test_on_cycle_choices_agree_on_a_dag_and_speak_labels():
+    dag = [("fetch", "build"), ("lint", "build"), ("build", "ship")]
+    # by hand from the definition of level (nodes in first-seen order: fetch, build, lint, ship)
+    for on_cycle in ("raise", "partial", "condense", "cut"):
+        assert toporank.levels(dag, on_cycle=on_cycle).tolist() == [0, 1, 0, 2]
+        assert toporank.heights(dag, on_cycle=on_cycle).tolist() == [2, 1, 2, 0]
+    loop = [("a", "b"), ("b", "a"), ("b", "c"), ("d", "c")]
+    groups = toporank.levels(loop, on_cycle="partial", grouped=True)
+    assert [g.tolist() for g in groups] == [["d"]]

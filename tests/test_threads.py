@@ -36,3 +36,19 @@ def test_bad_thread_counts_are_named(monkeypatch):
     monkeypatch.setenv("TOPORANK_NUM_THREADS", "many")
     with pytest.raises(toporank.GraphInputError, match="'many'"):
         toporank.order(edges)
+
+
+def test_thread_defaults_are_one_rule_for_every_sweep(monkeypatch):
+    # The sweeps share one default (serial unless TOPORANK_NUM_THREADS is set);
+    # counts beyond the usable cores (os.sched_getaffinity) are capped.
+    from toporank import _validate
+
+    monkeypatch.delenv("TOPORANK_NUM_THREADS", raising=False)
+    assert _validate.sweep_threads(None) == 1
+    cores = _validate.usable_cores()
+    assert _validate.thread_count(None) == cores
+    assert _validate.thread_count(10**6) == cores
+    monkeypatch.setenv("TOPORANK_NUM_THREADS", "2")
+    assert _validate.sweep_threads(None) == min(2, cores)
+    monkeypatch.setenv("TOPORANK_NUM_THREADS", str(2**70))
+    assert _validate.sweep_threads(None) == cores

@@ -36,7 +36,7 @@ CALLS = {
     "order": lambda g: toporank.order(g, tie="priority").tolist(),
     "positions": lambda g: toporank.positions(toporank.order(g)).tolist(),
     "read_graph": lambda g: _saved_and_read(g).indices.tolist(),
-    "verify_order": lambda g: toporank.verify_order(g, toporank.order(g)),
+    "verify_order": lambda g: _verified(g),
     "order_metrics": lambda g: dict(
         toporank.order_metrics(g, toporank.order(g), key=np.arange(N)[::-1])
     ),
@@ -51,9 +51,30 @@ CALLS = {
     "path_counts": lambda g: toporank.path_counts(g).exact_through_edge.tolist(),
     "components": lambda g: toporank.components(g).tolist(),
     "condense": lambda g: toporank.condense(g).dag.toarray().tolist(),
-    "cycle_witness": lambda g: toporank.cycle_witness(g, through=1),
+    "cycle_witness": lambda g: toporank.cycle_witness(_with_back_edge(g), through=1).tolist(),
     "cut_cycles": lambda g: toporank.cut_cycles(g).order.tolist(),
 }
+
+
+def _verified(matrix):
+    """A valid order passes (None); a reversed one fails naming the same edge."""
+    good = toporank.verify_order(matrix, toporank.order(matrix))
+    try:
+        toporank.verify_order(matrix, toporank.order(matrix)[::-1])
+    except toporank.InvalidOrderError as e:
+        return good, str(e), e.edge
+    raise AssertionError("a reversed order of a graph with edges passed")
+
+
+def _with_back_edge(matrix):
+    """The same graph plus the edge 3 -> 0, closing the cycle 0 -> 1 -> 3 -> 0."""
+    coo = matrix.tocoo()
+    row = np.append(coo.row, 3)
+    col = np.append(coo.col, 0)
+    cyclic = sp.csr_array((np.ones(len(row)), (row, col)), shape=(N, N))
+    cyclic.indptr = cyclic.indptr.astype(matrix.indptr.dtype)
+    cyclic.indices = cyclic.indices.astype(matrix.indices.dtype)
+    return cyclic
 
 
 def _saved_and_read(matrix):

@@ -18,17 +18,24 @@ from typing import Any
 import numpy as np
 
 from . import _core
-from ._errors import CyclicGraphError, GraphInputError
-from ._graph import Graph, as_graph, as_nodes, node_key, positive_int
+from ._errors import GraphInputError
+from ._graph import Graph, as_graph, as_nodes
 from ._metrics import OrderMetrics, dense_rank, measure
-from ._order import _policy_arguments
 from ._schedule import (
-    SCHEDULE_TIES,
     Schedule,
-    raise_cycle,
     run_schedule,
-    task_durations,
+)
+from ._validate import (
+    SCHEDULE_TIES,
+    positive_int,
+    raise_cycle,
+    random_seed,
+    reference_key,
+    tie_list,
     worker_count,
+)
+from ._validate import (
+    durations as task_durations,
 )
 
 __all__ = ["Comparison", "compare"]
@@ -362,14 +369,12 @@ def compare(
     array(['src', 'fmt', 'lint', 'docs', 'parse', 'check', 'emit'], dtype=object)
     """
     g = as_graph(graph, n)
-    chosen = _check_ties(ties)
+    chosen = tie_list(ties)
     runs = positive_int(repeat, "repeat")
     count = None if workers is None else worker_count(workers)
-    if key is None and descending:
-        raise GraphInputError("descending applies to a key; pass key=... as well")
-    key_array = None if key is None else node_key(g, key)
+    key_array = reference_key(g, key, descending)
     rank = None if key_array is None else dense_rank(key_array, descending)
-    _, seed_value = _policy_arguments(g, "random", None, False, seed)
+    seed_value = random_seed(seed)
     durations = task_durations(g, duration)
 
     seconds: dict[str, float] = {}
@@ -410,21 +415,6 @@ def compare(
     )
 
 
-def _check_ties(ties: Iterable[str]) -> tuple[str, ...]:
-    if isinstance(ties, str):
-        ties = (ties,)
-    chosen = tuple(ties)
-    if not chosen:
-        raise GraphInputError(f"ties is empty; choose among {SCHEDULE_TIES}")
-    for tie in chosen:
-        if tie not in SCHEDULE_TIES:
-            raise GraphInputError(f"unknown tie {tie!r}; choose among {SCHEDULE_TIES}")
-    repeated = [t for t in SCHEDULE_TIES if chosen.count(t) > 1]
-    if repeated:
-        raise GraphInputError(f"ties lists {repeated[0]!r} more than once")
-    return chosen
-
-
 def _order_function(
     g: Graph,
     tie: str,
@@ -436,19 +426,17 @@ def _order_function(
     """A call computing the id order of ``tie``, raising CyclicGraphError on a cycle."""
 
     def kahn(policy: str, key_values: np.ndarray | None, desc: bool, seed_value: int) -> np.ndarray:
-        emitted, blocked, cycle = _core.kahn_order(
-            g.indptr, g.indices, policy, key_values, desc, seed_value
-        )
-        if len(blocked):
-            raise CyclicGraphError(as_nodes(g, cycle), as_nodes(g, emitted), as_nodes(g, blocked))
-        return emitted
+        found = _core.kahn_order(g.indptr, g.indices, policy, key_values, desc, seed_value)
+        if isinstance(found, _core.Cyclic):
+            raise_cycle(g, found)
+        return found
 
     if tie == "critical":
 
         def critical() -> np.ndarray:
-            levels, cyclic = _core.bottom_levels(g.indptr, g.indices, durations)
-            if levels is None:
-                raise_cycle(g, cyclic)
+            levels = _core.bottom_levels(g.indptr, g.indices, durations)
+            if isinstance(levels, _core.Cyclic):
+                raise_cycle(g, levels)
             return kahn("priority", levels, True, 0)
 
         return critical

@@ -20,6 +20,7 @@ import numpy as np
 from . import _core
 from ._errors import GraphInputError
 from ._graph import Graph, as_graph, as_nodes
+from ._validate import node_argument
 
 __all__ = ["Condensation", "CycleCut", "components", "condense", "cut_cycles", "cycle_witness"]
 
@@ -71,7 +72,7 @@ def components(graph: Any, *, n: int | None = None) -> np.ndarray:
     array([0, 1, 1, 2, 3])
     """
     g = as_graph(graph, n)
-    labels, _ = _core.strong_components(g.indptr, g.indices)
+    labels: np.ndarray = _core.strong_components(g.indptr, g.indices).labels
     return labels
 
 
@@ -169,10 +170,12 @@ def condense(graph: Any, *, n: int | None = None) -> Condensation:
     import scipy.sparse
 
     g = as_graph(graph, n)
-    labels, sizes, indptr, indices, weights = _core.condensation(g.indptr, g.indices)
-    count = len(sizes)
-    dag = scipy.sparse.csr_array((weights.astype(np.int64), indices, indptr), shape=(count, count))
-    return Condensation(dag, labels, sizes, g)
+    found = _core.condensation(g.indptr, g.indices)
+    count = len(found.sizes)
+    dag = scipy.sparse.csr_array(
+        (found.weights.astype(np.int64), found.indices, found.indptr), shape=(count, count)
+    )
+    return Condensation(dag, found.labels, found.sizes, g)
 
 
 def cycle_witness(graph: Any, through: Any = None, *, n: int | None = None) -> np.ndarray | None:
@@ -221,28 +224,9 @@ def cycle_witness(graph: Any, through: Any = None, *, n: int | None = None) -> n
     True
     """
     g = as_graph(graph, n)
-    start = None if through is None else _node_argument(g, through, "through")
+    start = None if through is None else node_argument(g, through, "through")
     cycle = _core.cycle_witness(g.indptr, g.indices, start)
     return None if cycle is None else as_nodes(g, cycle)
-
-
-def _node_argument(g: Graph, node: Any, name: str) -> int:
-    if g.labels is not None:
-        try:
-            return g.label_index[node]
-        except (KeyError, TypeError):
-            raise GraphInputError(f"{name} = {node!r} is not a node of the graph") from None
-    if isinstance(node, (bool, np.bool_)):
-        raise GraphInputError(f"{name} must be a node id, got {node!r}")
-    try:
-        value = operator.index(node)
-    except TypeError:
-        raise GraphInputError(f"{name} must be an integer node id, got {node!r}") from None
-    if not 0 <= value < g.n:
-        raise GraphInputError(
-            f"{name} = {value} is not a node id; ids must lie in 0..{g.n} (n = {g.n})"
-        )
-    return value
 
 
 @dataclass(frozen=True, eq=False)
@@ -325,7 +309,8 @@ def cut_cycles(graph: Any, *, method: str = "greedy", n: int | None = None) -> C
     if method not in CUT_METHODS:
         raise GraphInputError(f"method must be one of {CUT_METHODS}, got {method!r}")
     g = as_graph(graph, n)
-    removed, order = _core.cut_cycles(g.indptr, g.indices)
+    found = _core.cut_cycles(g.indptr, g.indices)
+    removed, order = found.removed, found.order
     sources = np.searchsorted(g.indptr, removed, side="right") - 1
     targets = g.indices[removed].astype(np.int64)
     input_positions = g.edge_input_positions()
@@ -337,10 +322,3 @@ def cut_cycles(graph: Any, *, method: str = "greedy", n: int | None = None) -> C
         edge_index[by_input],
         as_nodes(g, order),
     )
-
-
-def ordered_despite_cycles(
-    g: Graph, on_cycle: str, tie: str, key: np.ndarray | None, descending: bool, seed: int
-) -> np.ndarray:
-    """Node ids of ``order(..., on_cycle="condense" | "cut")`` (arguments already checked)."""
-    return _core.order_despite_cycles(g.indptr, g.indices, on_cycle, tie, key, descending, seed)

@@ -7,8 +7,6 @@ works). int32 and int64 index arrays are used without copying.
 
 from __future__ import annotations
 
-import operator
-import os
 from collections.abc import Hashable, Iterable, Mapping
 from dataclasses import dataclass, field
 from typing import Any
@@ -17,6 +15,7 @@ import numpy as np
 
 from . import _core
 from ._errors import GraphInputError
+from ._validate import distinct_labels, node_count
 
 __all__ = ["Graph", "as_graph"]
 
@@ -90,8 +89,7 @@ class Graph:
         if self._edges is None:
             return None
         src, dst = self._edges
-        _, _, edge_ids = _core.edges_to_csr(src, dst, self.n, True)
-        return edge_ids
+        return _core.edges_to_csr(src, dst, self.n, True).edge_ids
 
     @classmethod
     def from_csr(cls, indptr: Any, indices: Any) -> Graph:
@@ -124,8 +122,8 @@ class Graph:
             raise GraphInputError(f"src has {len(src)} entries but dst has {len(dst)}")
         n = _node_count(src, dst, n)
         src, dst = _same_width(src, dst, max(n, len(src)))
-        indptr, indices, _ = _core.edges_to_csr(src, dst, n, False)
-        return cls(indptr, indices, _edges=(src, dst))
+        built = _core.edges_to_csr(src, dst, n, False)
+        return cls(built.indptr, built.indices, _edges=(src, dst))
 
     @classmethod
     def from_labelled_edges(cls, src: Any, dst: Any, labels: Any) -> Graph:
@@ -136,6 +134,7 @@ class Graph:
         labels = np.asarray(labels, dtype=object)
         if labels.ndim != 1:
             raise GraphInputError(f"labels must be 1-D, got shape {labels.shape}")
+        distinct_labels(labels)
         plain = cls.from_edges(src, dst, len(labels))
         return cls(plain.indptr, plain.indices, labels, None, plain._edges)
 
@@ -160,8 +159,8 @@ class Graph:
             labels[node] = label
         src = np.asarray(src_ids, dtype=np.int64)
         dst = np.asarray(dst_ids, dtype=np.int64)
-        indptr, indices, _ = _core.edges_to_csr(src, dst, len(index), False)
-        return cls(indptr, indices, labels, index, (src, dst))
+        built = _core.edges_to_csr(src, dst, len(index), False)
+        return cls(built.indptr, built.indices, labels, index, (src, dst))
 
     @classmethod
     def from_sparse(cls, matrix: Any) -> Graph:
@@ -195,7 +194,7 @@ def as_graph(graph: Any, n: int | None = None) -> Graph:
     if isinstance(graph, Graph):
         _check_n(n, graph.n, "a Graph")
         return graph
-    if _is_sparse(graph):
+    if is_sparse(graph):
         built = Graph.from_sparse(graph)
         _check_n(n, built.n, "a sparse matrix")
         return built
@@ -225,7 +224,7 @@ def as_graph(graph: Any, n: int | None = None) -> Graph:
     return Graph.from_pairs(graph)
 
 
-def _is_sparse(obj: Any) -> bool:
+def is_sparse(obj: Any) -> bool:
     if not hasattr(obj, "tocoo") or not hasattr(obj, "format"):
         return False
     import scipy.sparse
@@ -234,7 +233,7 @@ def _is_sparse(obj: Any) -> bool:
 
 
 def _check_n(n: int | None, actual: int, what: str) -> None:
-    if n is not None and n != actual:
+    if n is not None and node_count(n) != actual:
         raise GraphInputError(f"n = {n} disagrees with {what} of {actual} nodes")
 
 
@@ -262,9 +261,7 @@ def _same_width(a: np.ndarray, b: np.ndarray, largest: int) -> tuple[np.ndarray,
 
 def _node_count(src: np.ndarray, dst: np.ndarray, n: int | None) -> int:
     if n is not None:
-        if isinstance(n, bool) or not isinstance(n, (int, np.integer)) or n < 0:
-            raise GraphInputError(f"n must be a non-negative integer, got {n!r}")
-        return int(n)
+        return node_count(n)
     if len(src) == 0:
         return 0
     low = min(int(src.min()), int(dst.min()))
@@ -275,169 +272,8 @@ def _node_count(src: np.ndarray, dst: np.ndarray, n: int | None) -> int:
     return max(int(src.max()), int(dst.max())) + 1
 
 
-def node_key(graph: Graph, key: Any, name: str = "key") -> np.ndarray:
-    """A per-node key as an int64, uint64 or float64 array of length ``n``.
-
-    For a labelled graph ``key`` may also be a mapping from label to value.
-    Booleans, non-numeric values, NaN and a wrong length are refused.
-    """
-    if isinstance(key, Mapping):
-        if graph.labels is None:
-            raise GraphInputError(
-                f"{name} is a mapping, but the graph has integer ids; pass an array"
-            )
-        missing = [label for label in graph.labels if label not in key]
-        if missing:
-            raise GraphInputError(f"{name} has no value for node {missing[0]!r}")
-        key = [key[label] for label in graph.labels]
-    array = np.asarray(key)
-    if array.ndim != 1 or len(array) != graph.n:
-        raise GraphInputError(
-            f"{name} must be 1-D with one value per node ({graph.n}), got shape {array.shape}"
-        )
-    kind = array.dtype.kind
-    if kind == "f":
-        array = np.ascontiguousarray(array, dtype=np.float64)
-        nan = np.flatnonzero(np.isnan(array))
-        if len(nan):
-            raise GraphInputError(f"{name}[{nan[0]}] is NaN{_label_note(graph, int(nan[0]))}")
-        return array
-    if kind == "i":
-        return np.ascontiguousarray(array, dtype=np.int64)
-    if kind == "u":
-        return np.ascontiguousarray(array, dtype=np.uint64)
-    raise GraphInputError(f"{name} has dtype {array.dtype}, expected integers or floats")
-
-
-def _label_note(graph: Graph, node: int) -> str:
-    return "" if graph.labels is None else f" (node {graph.labels[node]!r})"
-
-
-def node_ids(graph: Graph, nodes: Any, name: str) -> np.ndarray:
-    """``nodes`` (ids, or labels for a labelled graph) as an int64 id array.
-
-    Unknown labels map to -1; callers report them.
-    """
-    if graph.labels is not None:
-        index = graph.label_index
-        return np.fromiter((index.get(x, -1) for x in nodes), dtype=np.int64, count=len(nodes))
-    return integer_ids(nodes, name)
-
-
-def integer_ids(nodes: Any, name: str) -> np.ndarray:
-    """Integer node ids as an int64 array; values beyond int64 map to -1 (reported by callers)."""
-    array = np.asarray(nodes)
-    if array.ndim != 1:
-        raise GraphInputError(f"{name} must be 1-D, got shape {array.shape}")
-    if len(array) == 0:
-        return np.zeros(0, dtype=np.int64)
-    if array.dtype.kind not in "iu":
-        raise GraphInputError(f"{name} has dtype {array.dtype}, expected integer node ids")
-    if array.dtype == np.uint64 and int(array.max()) > np.iinfo(np.int64).max:
-        return np.where(array > np.iinfo(np.int64).max, -1, array).astype(np.int64)
-    return np.ascontiguousarray(array, dtype=np.int64)
-
-
 def as_nodes(graph: Graph, ids: np.ndarray) -> np.ndarray:
     """Node ids as the caller knows them: labels for a labelled graph, ids otherwise."""
     if graph.labels is None:
         return ids
     return graph.labels[ids]
-
-
-def edge_values(graph: Graph, values: Any, name: str, source: Any = None) -> np.ndarray:
-    """Per-edge numbers as a float64 array in stored (CSR) edge order.
-
-    ``values`` follows the package's edge order: the stored order for CSR
-    input (a scipy CSR matrix's ``.data`` order), the input order for edge
-    lists and label pairs, ``.tocoo()`` order for other sparse formats. The
-    string ``"data"`` takes the stored values of ``source``, which must be the
-    scipy sparse matrix the graph was read from. Every value must be finite
-    and non-negative; the first that is not is named by input position and edge.
-    """
-    if isinstance(values, str):
-        if values != "data":
-            raise GraphInputError(f"{name} must be an array of numbers or 'data', got {values!r}")
-        if not _is_sparse(source):
-            raise GraphInputError(
-                f"{name}='data' takes a scipy sparse matrix's stored values, but the graph is a "
-                f"{type(source).__name__}"
-            )
-        values = source.data if source.format == "csr" else source.tocoo().data
-    array = np.asarray(values)
-    if array.ndim != 1 or len(array) != graph.m:
-        raise GraphInputError(
-            f"{name} must be 1-D with one value per edge ({graph.m}), got shape {array.shape}"
-        )
-    if len(array) and array.dtype.kind not in "iuf":
-        raise GraphInputError(f"{name} has dtype {array.dtype}, expected integers or floats")
-    array = np.ascontiguousarray(array, dtype=np.float64)
-    bad = np.flatnonzero(~(np.isfinite(array) & (array >= 0)))
-    positions = graph.edge_input_positions()
-    if len(bad):
-        at = int(bad[0])
-        stored = at if positions is None else int(np.flatnonzero(positions == at)[0])
-        u = int(np.searchsorted(graph.indptr, stored, side="right")) - 1
-        ends = as_nodes(graph, np.array([u, int(graph.indices[stored])]))
-        raise GraphInputError(
-            f"{name}[{at}] = {array[at]} (edge {ends[0]!r} -> {ends[1]!r}); weights must be "
-            "finite and non-negative"
-        )
-    return array if positions is None else array[positions]
-
-
-def node_weights(graph: Graph, values: Any, name: str) -> np.ndarray:
-    """Per-node numbers (array, or mapping for labelled graphs) as finite non-negative float64."""
-    array = node_key(graph, values, name).astype(np.float64, copy=False)
-    bad = np.flatnonzero(~(np.isfinite(array) & (array >= 0)))
-    if len(bad):
-        at = int(bad[0])
-        raise GraphInputError(
-            f"{name}[{at}] = {array[at]}{_label_note(graph, at)}; weights must be finite and "
-            "non-negative"
-        )
-    return np.ascontiguousarray(array)
-
-
-THREADS_VARIABLE = "TOPORANK_NUM_THREADS"
-"""Environment variable giving the default worker count of parallel steps."""
-
-
-def thread_count(threads: int | None) -> int:
-    """The worker count: ``threads``, else ``TOPORANK_NUM_THREADS``, else the usable cores."""
-    if threads is None:
-        setting = os.environ.get(THREADS_VARIABLE, "").strip()
-        if not setting:
-            try:
-                return max(1, len(os.sched_getaffinity(0)))
-            except AttributeError:  # not on Linux
-                return max(1, os.cpu_count() or 1)
-        try:
-            threads = int(setting)
-        except ValueError:
-            raise GraphInputError(
-                f"{THREADS_VARIABLE}={setting!r} is not a whole number of threads"
-            ) from None
-        where = f" (from {THREADS_VARIABLE})"
-    else:
-        where = ""
-    if isinstance(threads, bool) or not isinstance(threads, (int, np.integer)) or threads < 1:
-        raise GraphInputError(f"threads must be a positive integer, got {threads!r}{where}")
-    return int(threads)
-
-
-def positive_int(value: Any, name: str, too_small: str | None = None) -> int:
-    """``value`` as an int of at least 1, or a GraphInputError naming it (bools refused).
-
-    ``too_small`` words the error for values below 1 (``{number}`` is filled in).
-    """
-    try:
-        if isinstance(value, bool):
-            raise TypeError
-        number = operator.index(value)
-    except TypeError:
-        raise GraphInputError(f"{name} must be an integer, got {value!r}") from None
-    if number < 1:
-        message = too_small or "{name} must be at least 1, got {number}"
-        raise GraphInputError(message.format(name=name, number=number))
-    return number

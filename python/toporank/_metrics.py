@@ -8,9 +8,9 @@ from typing import Any
 import numpy as np
 
 from . import _core
-from ._errors import GraphInputError
-from ._graph import Graph, as_graph, node_ids, node_key
-from ._order import _order_error
+from ._graph import Graph, as_graph
+from ._order import order_error
+from ._validate import node_ids, reference_key
 
 __all__ = ["OrderMetrics", "order_metrics"]
 
@@ -65,33 +65,24 @@ class OrderMetrics(Mapping[str, Any]):
         self,
         n: int,
         m: int,
-        measures: tuple[Any, ...],
-        agreement: tuple[tuple[int, int, int], ...] | None,
+        measured: _core.OrderMetrics,
     ) -> None:
-        (
-            ready_sizes,
-            live_sizes,
-            ready_peak,
-            ready_total,
-            live_peak,
-            live_total,
-            span_total,
-            span_max,
-        ) = measures
         self.n, self.m = n, m
-        self.ready_sizes: np.ndarray = ready_sizes
-        self.live_sizes: np.ndarray = live_sizes
+        self.ready_sizes: np.ndarray = measured.ready_sizes
+        self.live_sizes: np.ndarray = measured.live_sizes
         self._values: dict[str, Any] = {
-            "ready_peak": int(ready_peak),
-            "ready_mean": ready_total / n if n else 0.0,
-            "live_peak": int(live_peak),
-            "live_mean": live_total / n if n else 0.0,
-            "span_total": int(span_total),
-            "span_mean": span_total / m if m else 0.0,
-            "span_max": int(span_max),
+            "ready_peak": measured.ready_peak,
+            "ready_mean": measured.ready_total / n if n else 0.0,
+            "live_peak": measured.live_peak,
+            "live_mean": measured.live_total / n if n else 0.0,
+            "span_total": measured.span_total,
+            "span_mean": measured.span_total / m if m else 0.0,
+            "span_max": measured.span_max,
         }
-        if agreement is not None:
-            for name, (agree, disagree, _tied) in zip(_KEY_FIELDS, agreement, strict=True):
+        agreements = (measured.pairs, measured.steps, measured.edges)
+        for name, agreement in zip(_KEY_FIELDS, agreements, strict=True):
+            if agreement is not None:
+                agree, disagree = agreement.agree, agreement.disagree
                 decided = agree + disagree
                 self._values[name] = agree / decided if decided else float("nan")
 
@@ -193,11 +184,10 @@ def order_metrics(
     0.833
     """
     g = as_graph(graph, n)
-    ids = node_ids(g, order, "order")
-    if key is None and descending:
-        raise GraphInputError("descending applies to a reference key; pass key=... as well")
-    rank = None if key is None else dense_rank(node_key(g, key), descending)
-    return measure(g, ids, rank, order)
+    ids, given = node_ids(g, order, "order")
+    key_array = reference_key(g, key, descending)
+    rank = None if key_array is None else dense_rank(key_array, descending)
+    return measure(g, ids, rank, given)
 
 
 def measure(g: Graph, ids: np.ndarray, rank: np.ndarray | None, given: Any) -> OrderMetrics:
@@ -209,9 +199,8 @@ def measure(g: Graph, ids: np.ndarray, rank: np.ndarray | None, given: Any) -> O
             raise RuntimeError(
                 "toporank internal error (please report): measures and checker disagree"
             )
-        raise _order_error(g, violation, ids, given)
-    *measures, agreement = found
-    return OrderMetrics(g.n, g.m, tuple(measures), agreement)
+        raise order_error(g, violation, ids, given)
+    return OrderMetrics(g.n, g.m, found)
 
 
 def dense_rank(key: np.ndarray, descending: bool = False) -> np.ndarray:

@@ -2,21 +2,26 @@
 
 from __future__ import annotations
 
-import operator
 from typing import Any, Literal
 
 import numpy as np
 
 from . import _core
-from ._errors import CyclicGraphError, GraphInputError, InvalidOrderError
-from ._graph import Graph, as_graph, as_nodes, integer_ids, node_ids, node_key, thread_count
+from ._errors import GraphInputError, InvalidOrderError
+from ._graph import Graph, as_graph, as_nodes
+from ._validate import (
+    TIES,
+    OnCycle,
+    integer_ids,
+    node_ids,
+    on_cycle_choice,
+    policy,
+    raise_cycle,
+    show,
+    thread_count,
+)
 
 __all__ = ["TIES", "order", "positions", "verify_order"]
-
-TIES = ("queue", "stack", "priority", "random")
-"""The tie-break policies of :func:`order`."""
-
-ON_CYCLE = ("raise", "partial", "condense", "cut")
 
 Tie = Literal["queue", "stack", "priority", "random"]
 
@@ -28,7 +33,7 @@ def order(
     key: Any = None,
     descending: bool = False,
     seed: int | None = None,
-    on_cycle: Literal["raise", "partial", "condense", "cut"] = "raise",
+    on_cycle: OnCycle = "raise",
     n: int | None = None,
     threads: int | None = None,
 ) -> np.ndarray:
@@ -75,8 +80,9 @@ def order(
     threads
         Workers sharing the in-degree pass on graphs of millions of edges
         (the loop itself is sequential). ``None`` reads the environment
-        variable ``TOPORANK_NUM_THREADS``, else uses every usable core. The
-        order is the same for every thread count.
+        variable ``TOPORANK_NUM_THREADS``, else uses every usable core;
+        counts beyond the usable cores are capped to them. The order is the
+        same for every thread count.
 
     Returns
     -------
@@ -116,44 +122,22 @@ def order(
     array(['core', 'io', 'net', 'app'], dtype=object)
     """
     g = as_graph(graph, n)
-    key_array, seed_value = _policy_arguments(g, tie, key, descending, seed)
+    key_array, seed_value = policy(g, tie, key, descending, seed)
     workers = thread_count(threads)
-    if on_cycle not in ON_CYCLE:
-        raise GraphInputError(f"on_cycle must be one of {ON_CYCLE}, got {on_cycle!r}")
+    on_cycle = on_cycle_choice(on_cycle)
     if on_cycle in ("condense", "cut"):
-        from ._cycles import ordered_despite_cycles
-
-        ids = ordered_despite_cycles(g, on_cycle, tie, key_array, bool(descending), seed_value)
-        return as_nodes(g, ids)
-    emitted, blocked, cycle = _core.kahn_order(
+        found = _core.order_despite_cycles(
+            g.indptr, g.indices, on_cycle, tie, key_array, bool(descending), seed_value
+        )
+        return as_nodes(g, found)
+    kahn = _core.kahn_order(
         g.indptr, g.indices, tie, key_array, bool(descending), seed_value, workers
     )
-    if len(blocked) and on_cycle == "raise":
-        raise CyclicGraphError(as_nodes(g, cycle), as_nodes(g, emitted), as_nodes(g, blocked))
-    return as_nodes(g, emitted)
-
-
-def _policy_arguments(
-    g: Graph, tie: str, key: Any, descending: bool, seed: int | None
-) -> tuple[np.ndarray | None, int]:
-    if tie not in TIES:
-        raise GraphInputError(f"tie must be one of {TIES}, got {tie!r}")
-    if tie != "priority" and (key is not None or descending):
-        raise GraphInputError(f"key and descending apply to tie='priority', not to tie={tie!r}")
-    if tie != "random" and seed is not None:
-        raise GraphInputError(f"seed applies to tie='random', not to tie={tie!r}")
-    key_array = None if key is None else node_key(g, key)
-    if tie != "random":
-        return key_array, 0
-    if seed is None:
-        return key_array, int(np.random.SeedSequence().generate_state(1, np.uint64)[0])
-    try:
-        seed_value = operator.index(seed)
-    except TypeError:
-        raise GraphInputError(f"seed must be an integer, got {seed!r}") from None
-    if not 0 <= seed_value < 2**64:
-        raise GraphInputError(f"seed must lie in 0..2**64 - 1, got {seed_value}")
-    return key_array, seed_value
+    if isinstance(kahn, _core.Cyclic):
+        if on_cycle == "raise":
+            raise_cycle(g, kahn)
+        return as_nodes(g, kahn.order)
+    return as_nodes(g, kahn)
 
 
 def positions(order: Any) -> np.ndarray:
@@ -181,8 +165,8 @@ def positions(order: Any) -> np.ndarray:
         )
     ids = integer_ids(array, "order")
     found = _core.positions(ids, len(ids))
-    if isinstance(found, tuple):
-        raise _order_error(None, found, ids, array)
+    if isinstance(found, _core.Violation):
+        raise order_error(None, found, ids, array)
     return found
 
 
@@ -209,22 +193,26 @@ def verify_order(graph: Any, order: Any, *, n: int | None = None) -> None:
     toporank._errors.InvalidOrderError: edge 0 -> 1 goes backwards: 0 is at position 1, ...
     """
     g = as_graph(graph, n)
-    ids = node_ids(g, order, "order")
+    ids, given = node_ids(g, order, "order")
     found = _core.verify_order(g.indptr, g.indices, ids)
     if found is not None:
-        raise _order_error(g, found, ids, order)
+        raise order_error(g, found, ids, given)
 
 
-def _order_error(
-    g: Graph | None, found: tuple[Any, ...], ids: np.ndarray, given: Any
+def order_error(
+    g: Graph | None, found: _core.Violation, ids: np.ndarray, given: Any
 ) -> InvalidOrderError:
-    def name(node: int) -> Any:
-        return node if g is None else as_nodes(g, np.array([node]))[0]
+    """The InvalidOrderError of a core ``Violation``; ``given`` is the order as passed."""
 
-    reason = found[0]
+    def name(node: int | None) -> Any:
+        assert node is not None
+        return node if g is None or g.labels is None else g.labels[node]
+
+    reason = found.kind
     if reason == "edge":
-        _, edge, u, v, pos_u, pos_v = found
-        u, v = name(u), name(v)
+        edge, pos_u, pos_v = found.edge, found.first, found.second
+        assert pos_u is not None and pos_v is not None
+        u, v = name(found.source), name(found.target)
         what = "is a self-loop" if pos_u == pos_v else "goes backwards"
         return InvalidOrderError(
             f"edge {u} -> {v} {what}: {u} is at position {pos_u}, {v} at position {pos_v} "
@@ -235,8 +223,9 @@ def _order_error(
             positions=(pos_u, pos_v),
         )
     if reason == "duplicate":
-        _, node, first, second = found
-        node = name(node)
+        first, second = found.first, found.second
+        assert first is not None and second is not None
+        node = name(found.node)
         return InvalidOrderError(
             f"node {node} appears twice, at positions {first} and {second}",
             reason="duplicate",
@@ -244,15 +233,18 @@ def _order_error(
             positions=(first, second),
         )
     if reason == "missing":
-        node = name(found[1])
+        node = name(found.node)
         return InvalidOrderError(
             f"node {node} is missing from the order", reason="missing", node=node
         )
-    position = found[1]
-    value = given[position] if g is not None and g.labels is not None else found[2]
+    position = found.position
+    assert position is not None
+    value = given[position]
+    if isinstance(value, np.generic):
+        value = value.item()
     total = len(ids) if g is None else g.n
     return InvalidOrderError(
-        f"order[{position}] = {value!r} is not a node of the graph (it has {total} nodes)",
+        f"order[{position}] = {show(value)} is not a node of the graph (it has {total} nodes)",
         reason="unknown",
         node=value,
     )

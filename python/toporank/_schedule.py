@@ -3,21 +3,17 @@
 from __future__ import annotations
 
 from dataclasses import dataclass, field
-from typing import Any, Literal, NoReturn
+from typing import Any, Literal
 
 import numpy as np
 
 from . import _core
-from ._errors import CyclicGraphError, GraphInputError
-from ._graph import Graph, as_graph, as_nodes, node_key, positive_int
+from ._graph import Graph, as_graph, as_nodes
 from ._metrics import dense_rank
-from ._order import TIES, _policy_arguments
+from ._validate import SCHEDULE_TIES, policy, raise_cycle, worker_count
+from ._validate import durations as task_durations
 
 __all__ = ["SCHEDULE_TIES", "Schedule", "schedule"]
-
-SCHEDULE_TIES = (*TIES, "critical")
-"""The policies of :func:`schedule` and :func:`compare`: those of :func:`order`
-plus ``"critical"`` (longest remaining path first)."""
 
 ScheduleTie = Literal["queue", "stack", "priority", "random", "critical"]
 
@@ -203,30 +199,23 @@ def run_schedule(
 ) -> Schedule:
     """:func:`schedule` on a normalised graph."""
     count = worker_count(workers)
-    if tie == "critical":
-        if key is not None or descending or seed is not None:
-            raise GraphInputError("key, descending and seed do not apply to tie='critical'")
-        rank, seed_value = None, 0
-    elif tie in TIES:
-        key_array, seed_value = _policy_arguments(g, tie, key, descending, seed)
-        rank = priority_rank(g, key_array, descending) if tie == "priority" else None
-    else:
-        raise GraphInputError(f"tie must be one of {SCHEDULE_TIES}, got {tie!r}")
+    key_array, seed_value = policy(g, tie, key, descending, seed, SCHEDULE_TIES)
+    rank = priority_rank(g, key_array, descending) if tie == "priority" else None
     durations = task_durations(g, duration)
     # Workers beyond the task count stay idle; capping keeps huge counts in range.
     slots = min(count, max(g.n, 1))
-    done, cyclic = _core.list_schedule(g.indptr, g.indices, durations, slots, tie, rank, seed_value)
-    if done is None:
-        raise_cycle(g, cyclic)
-    start, worker, started, makespan, critical_path, total_work = done
+    done = _core.list_schedule(g.indptr, g.indices, durations, slots, tie, rank, seed_value)
+    if isinstance(done, _core.Cyclic):
+        raise_cycle(g, done)
+    started = done.order
     return Schedule(
-        start=start,
-        finish=start + durations,
-        worker=worker,
+        start=done.start,
+        finish=done.start + durations,
+        worker=done.worker,
         order=as_nodes(g, started),
-        makespan=makespan,
-        critical_path=critical_path,
-        total_work=total_work,
+        makespan=done.makespan,
+        critical_path=done.critical_path,
+        total_work=done.total_work,
         workers=count,
         tie=tie,
         labels=g.labels,
@@ -243,41 +232,5 @@ def priority_rank(g: Graph, key: np.ndarray | None, descending: bool) -> np.ndar
     return dense_rank(key, descending).astype(np.uint64)
 
 
-def worker_count(workers: Any) -> int:
-    """``workers`` as a positive int, or a GraphInputError naming it."""
-    return positive_int(
-        workers, "workers", "workers = {number}; a schedule needs at least one worker"
-    )
-
-
-def task_durations(g: Graph, duration: Any) -> np.ndarray:
-    """Durations as int64 or float64, one per node, checked finite and non-negative."""
-    if duration is None:
-        return np.ones(g.n, dtype=np.int64)
-    values = node_key(g, duration, "duration")
-    if values.dtype == np.uint64:
-        if len(values) and int(values.max()) > np.iinfo(np.int64).max:
-            node = int(values.argmax())
-            raise GraphInputError(
-                f"duration[{node}] = {int(values[node])} is too large for 64-bit integer "
-                f"times{_label(g, node)}; pass float durations"
-            )
-        values = values.astype(np.int64)
-    bad = np.flatnonzero(~np.isfinite(values) | (values < 0))
-    if len(bad):
-        node = int(bad[0])
-        raise GraphInputError(
-            f"duration[{node}] = {values[node].item()!r} is not a duration{_label(g, node)}; "
-            "durations must be finite and >= 0"
-        )
-    return values
-
-
 def _label(g: Graph, node: int) -> str:
     return "" if g.labels is None else f" (node {g.labels[node]!r})"
-
-
-def raise_cycle(g: Graph, cyclic: tuple[np.ndarray, np.ndarray, np.ndarray]) -> NoReturn:
-    """Raise CyclicGraphError from the core's ``(order, blocked, cycle)``."""
-    emitted, blocked, cycle = cyclic
-    raise CyclicGraphError(as_nodes(g, cycle), as_nodes(g, emitted), as_nodes(g, blocked))

@@ -14,23 +14,21 @@ label pairs, the ``.tocoo()`` order of other sparse formats.
 from __future__ import annotations
 
 import math
-import os
 from dataclasses import dataclass, field
 from functools import cached_property
-from typing import Any, Literal
+from typing import Any
 
 import numpy as np
 
 from . import _core
-from ._errors import CyclicGraphError, GraphInputError
-from ._graph import (
-    THREADS_VARIABLE,
-    Graph,
-    as_graph,
-    as_nodes,
+from ._graph import Graph, as_graph, as_nodes
+from ._validate import (
+    OnCycle,
     edge_values,
     node_weights,
-    thread_count,
+    on_cycle_choice,
+    raise_cycle,
+    sweep_threads,
 )
 
 __all__ = [
@@ -42,20 +40,60 @@ __all__ = [
     "path_counts",
 ]
 
-ON_CYCLE = ("raise",)
 
-OnCycle = Literal["raise"]
-
-
-def _check_on_cycle(on_cycle: str) -> None:
-    if on_cycle not in ON_CYCLE:
-        raise GraphInputError(f"on_cycle must be one of {ON_CYCLE}, got {on_cycle!r}")
+def _sources(g: Graph) -> np.ndarray:
+    """The source of every stored edge."""
+    return np.repeat(np.arange(g.n, dtype=g.indices.dtype), np.diff(g.indptr))
 
 
-def _raise_if_cyclic(g: Graph, cyclic: tuple[np.ndarray, np.ndarray, np.ndarray] | None) -> None:
-    if cyclic is not None:
-        emitted, blocked, cycle = cyclic
-        raise CyclicGraphError(as_nodes(g, cycle), as_nodes(g, emitted), as_nodes(g, blocked))
+def _reversed(g: Graph) -> Graph:
+    """``g`` with every edge turned around."""
+    return Graph.from_edges(g.indices, _sources(g), g.n)
+
+
+def _without_edges(g: Graph, keep: np.ndarray) -> Graph:
+    """``g`` keeping only the stored edges where ``keep`` is true (rows in stored order)."""
+    return Graph.from_edges(_sources(g)[keep], g.indices[keep], g.n)
+
+
+def _levels_despite_cycles(g: Graph, on_cycle: str, threads: int, backward: bool) -> np.ndarray:
+    """Per node: its level (its height when ``backward``) under ``on_cycle``.
+
+    ``"partial"``: nodes behind a cycle (reached from one; for heights,
+    reaching one) get -1; ``"condense"``: the level of the node's component
+    in the condensation; ``"cut"``: the level once :func:`toporank.cut_cycles`'
+    edges are removed.
+    """
+    if on_cycle == "condense":
+        condensed = _core.condensation(g.indptr, g.indices)
+        dag = Graph.from_csr(condensed.indptr, condensed.indices)
+        return _levels_despite_cycles(dag, "raise", threads, backward)[condensed.labels]
+    if on_cycle == "cut":
+        keep = np.ones(g.m, dtype=bool)
+        keep[_core.cut_cycles(g.indptr, g.indices).removed] = False
+        return _levels_despite_cycles(_without_edges(g, keep), "raise", threads, backward)
+    direction = _reversed(g) if backward else g
+    found = _core.levels(direction.indptr, direction.indices, threads, False)
+    if not isinstance(found, _core.Cyclic):
+        return found.level
+    if on_cycle == "raise":
+        raise_cycle(g, found)
+    behind = np.zeros(g.n, dtype=bool)
+    behind[found.blocked] = True
+    sources = _sources(direction)
+    rest = _without_edges(direction, ~(behind[sources] | behind[direction.indices]))
+    level = _levels_despite_cycles(rest, "raise", threads, False)
+    level[behind] = -1
+    return level
+
+
+def _grouped(g: Graph, level: np.ndarray) -> list[np.ndarray]:
+    """The nodes of level 0, 1, ... (ascending id inside a level; level -1 left out)."""
+    ids = np.argsort(level, kind="stable").astype(g.indptr.dtype, copy=False)
+    ids = ids[level[ids] >= 0]
+    bounds = np.searchsorted(level[ids], np.arange(int(level.max(initial=-1)) + 2))
+    nodes = as_nodes(g, ids)
+    return [nodes[bounds[k] : bounds[k + 1]] for k in range(len(bounds) - 1)]
 
 
 def _all_nodes(g: Graph) -> np.ndarray:
@@ -89,11 +127,19 @@ def levels(
         environment variable ``TOPORANK_NUM_THREADS``, else runs the serial
         loop: on citation-like graphs the serial FIFO sweep (with
         prefetching, no atomics) measured faster than two workers counting
-        in-degrees down atomically. Workers are started on the first
-        parallel call (never at import) and rebuilt in a forked child. The
-        result is the same for every thread count.
+        in-degrees down atomically. Counts beyond the usable cores are capped
+        to them, and the loop falls back to serial where parallel does not
+        pay. Workers are started on the first parallel call (never at import)
+        and rebuilt in a forked child. The result is the same for every
+        thread count.
     on_cycle
-        ``"raise"`` (the only choice for now) raises :class:`CyclicGraphError`.
+        What a graph with a cycle gives, the vocabulary of
+        :func:`toporank.order`: ``"raise"`` raises :class:`CyclicGraphError`;
+        ``"partial"`` gives -1 to the nodes behind a cycle (reachable from
+        one) and their level to the others; ``"condense"`` gives each node the
+        level of its strongly connected component in the condensation (see
+        :func:`toporank.condense`); ``"cut"`` the level once the edges
+        :func:`toporank.cut_cycles` finds are removed. On a DAG all four agree.
     n
         Node count for the edge-array forms, as in :func:`toporank.order`.
 
@@ -101,7 +147,8 @@ def levels(
     -------
     numpy.ndarray or list of numpy.ndarray
         Per node id, its level, in the graph's index dtype; or, with
-        ``grouped=True``, the nodes of level 0, 1, ... in that order.
+        ``grouped=True``, the nodes of level 0, 1, ... in that order (nodes
+        of level -1 left out).
 
     Raises
     ------
@@ -132,15 +179,21 @@ def levels(
     ['fetch', 'lint']
     ['build']
     ['ship']
+    >>> toporank.levels([("a", "b"), ("b", "a"), ("b", "c"), ("d", "c")], on_cycle="condense")
+    array([0, 0, 1, 0])
     """
     g = as_graph(graph, n)
-    _check_on_cycle(on_cycle)
-    serial_default = threads is None and not os.environ.get(THREADS_VARIABLE)
-    workers = 1 if serial_default else thread_count(threads)
-    cyclic, level, nodes, offsets = _core.levels(g.indptr, g.indices, workers, bool(grouped))
-    _raise_if_cyclic(g, cyclic)
+    on_cycle = on_cycle_choice(on_cycle)
+    workers = sweep_threads(threads)
+    if on_cycle != "raise":
+        level = _levels_despite_cycles(g, on_cycle, workers, backward=False)
+        return _grouped(g, level) if grouped else level
+    found = _core.levels(g.indptr, g.indices, workers, bool(grouped))
+    if isinstance(found, _core.Cyclic):
+        raise_cycle(g, found)
     if not grouped:
-        return level
+        return found.level
+    nodes, offsets = found.nodes, found.offsets
     assert nodes is not None and offsets is not None
     nodes = as_nodes(g, nodes)
     return [nodes[offsets[k] : offsets[k + 1]] for k in range(len(offsets) - 1)]
@@ -163,8 +216,14 @@ def heights(
     ----------
     graph
         Any graph form :func:`toporank.order` accepts.
-    threads, on_cycle, n
+    threads, n
         As in :func:`levels`; the result is the same for every thread count.
+    on_cycle
+        As in :func:`levels`, read backwards: ``"partial"`` gives -1 to the
+        nodes that reach a cycle (their longest path has no end);
+        ``"condense"`` gives each node its component's height in the
+        condensation; ``"cut"`` the height once :func:`toporank.cut_cycles`'
+        edges are removed.
 
     Returns
     -------
@@ -182,12 +241,18 @@ def heights(
     >>> src, dst = np.array([0, 0, 1, 2, 3]), np.array([1, 2, 3, 3, 4])
     >>> toporank.heights((src, dst), threads=1)
     array([3, 2, 2, 1, 0])
+    >>> toporank.heights([("a", "b"), ("b", "a"), ("b", "c")], on_cycle="partial")
+    array([-1, -1,  0])
     """
     g = as_graph(graph, n)
-    _check_on_cycle(on_cycle)
-    cyclic, height = _core.heights(g.indptr, g.indices, thread_count(threads))
-    _raise_if_cyclic(g, cyclic)
-    return height
+    on_cycle = on_cycle_choice(on_cycle)
+    workers = sweep_threads(threads)
+    if on_cycle != "raise":
+        return _levels_despite_cycles(g, on_cycle, workers, backward=True)
+    found = _core.heights(g.indptr, g.indices, workers)
+    if isinstance(found, _core.Cyclic):
+        raise_cycle(g, found)
+    return found
 
 
 @dataclass(frozen=True, eq=False)
@@ -238,7 +303,6 @@ def critical_path(
     node_weight: Any = None,
     edge_weight: Any = None,
     threads: int | None = None,
-    on_cycle: OnCycle = "raise",
     n: int | None = None,
 ) -> CriticalPath:
     """Return the critical path of a DAG: its length, one longest path and every node's slack.
@@ -270,7 +334,7 @@ def critical_path(
         values. Default: all 1 when ``node_weight`` is ``None`` (so the
         length counts edges, like :func:`levels`), else all 0 (a plain
         activity-on-node network).
-    threads, on_cycle, n
+    threads, n
         As in :func:`levels`: ``threads`` share the backward pass (latest
         starts) level by level; the result is the same for every count.
 
@@ -315,20 +379,20 @@ def critical_path(
     3.0
     """
     g = as_graph(graph, n)
-    _check_on_cycle(on_cycle)
     durations = None if node_weight is None else node_weights(g, node_weight, "node_weight")
     lags = None if edge_weight is None else edge_values(g, edge_weight, "edge_weight", graph)
     default_lag = 1.0 if node_weight is None else 0.0
-    cyclic, length, path, earliest, latest = _core.critical_path(
-        g.indptr, g.indices, durations, lags, default_lag, thread_count(threads)
+    found = _core.critical_path(
+        g.indptr, g.indices, durations, lags, default_lag, sweep_threads(threads)
     )
-    _raise_if_cyclic(g, cyclic)
+    if isinstance(found, _core.Cyclic):
+        raise_cycle(g, found)
     return CriticalPath(
-        length=float(length),
-        path=as_nodes(g, path),
-        earliest_start=earliest,
-        latest_start=latest,
-        slack=latest - earliest,
+        length=float(found.length),
+        path=as_nodes(g, found.path),
+        earliest_start=found.earliest_start,
+        latest_start=found.latest_start,
+        slack=found.latest_start - found.earliest_start,
         duration=np.zeros(g.n) if durations is None else durations,
         nodes=_all_nodes(g),
     )
@@ -424,7 +488,6 @@ def path_counts(
     graph: Any,
     *,
     threads: int | None = None,
-    on_cycle: OnCycle = "raise",
     n: int | None = None,
 ) -> PathCounts:
     """Return the number of paths from sources and to sinks per node, and through each edge.
@@ -437,7 +500,7 @@ def path_counts(
     ----------
     graph
         Any graph form :func:`toporank.order` accepts.
-    threads, on_cycle, n
+    threads, n
         As in :func:`levels`: ``threads`` share the backward pass (paths to
         sinks and through edges) level by level; the result is the same, bit
         for bit, for every count.
@@ -477,11 +540,10 @@ def path_counts(
     (array([1., 1., 1., 2.]), array([2., 1., 1., 1.]))
     """
     g = as_graph(graph, n)
-    _check_on_cycle(on_cycle)
-    cyclic, from_sources, to_sinks, through, total, exact, logs = _core.path_counts(
-        g.indptr, g.indices, thread_count(threads)
-    )
-    _raise_if_cyclic(g, cyclic)
+    found = _core.path_counts(g.indptr, g.indices, sweep_threads(threads))
+    if isinstance(found, _core.Cyclic):
+        raise_cycle(g, found)
+    exact, log = found.exact, found.log
     positions = g.edge_input_positions()
 
     def edge_order(stored: np.ndarray) -> np.ndarray:
@@ -491,18 +553,19 @@ def path_counts(
         out[positions] = stored
         return out
 
-    if logs is not None:
-        logs = (logs[0], logs[1], edge_order(logs[2]), float(logs[3]))
+    logs = None
+    if log is not None:
+        logs = (log.from_sources, log.to_sinks, edge_order(log.through_edge), float(log.total))
     return PathCounts(
-        from_sources=from_sources,
-        to_sinks=to_sinks,
-        through_edge=edge_order(through),
-        total=float(total),
+        from_sources=found.from_sources,
+        to_sinks=found.to_sinks,
+        through_edge=edge_order(found.through_edge),
+        total=float(found.total),
         overflow=exact is None,
-        exact_from_sources=None if exact is None else exact[0],
-        exact_to_sinks=None if exact is None else exact[1],
-        exact_through_edge=None if exact is None else edge_order(exact[2]),
-        exact_total=None if exact is None else int(exact[3]),
+        exact_from_sources=None if exact is None else exact.from_sources,
+        exact_to_sinks=None if exact is None else exact.to_sinks,
+        exact_through_edge=None if exact is None else edge_order(exact.through_edge),
+        exact_total=None if exact is None else int(exact.total),
         nodes=_all_nodes(g),
         _logs=logs,
     )

@@ -1,42 +1,178 @@
-//! Conversions shared by every binding: errors, the GIL-free section, slices.
+//! What every entry point shares: reading arrays, the dispatch on index
+//! width, the GIL-free section, and the result shape of a cyclic graph.
 
 use std::panic::{catch_unwind, AssertUnwindSafe};
 
-use numpy::PyReadonlyArray1;
-use pyo3::exceptions::{PyRuntimeError, PyValueError};
+use numpy::{
+    Element, IntoPyArray, PyArray1, PyArrayMethods, PyReadonlyArray1, PyUntypedArrayMethods,
+};
+use pyo3::exceptions::PyRuntimeError;
 use pyo3::prelude::*;
-use toporank_core::Error;
+use toporank_core::{Error, Idx, Outcome};
 
-/// Turn a core error into the package's input error (a `ValueError`).
-pub(crate) fn to_pyerr(py: Python<'_>, error: Error) -> PyErr {
-    let message = error.to_string();
-    match py.import("toporank._errors").and_then(|m| m.getattr("GraphInputError")) {
-        Ok(class) => PyErr::from_value(match class.call1((message.clone(),)) {
-            Ok(instance) => instance,
-            Err(e) => return e,
-        }),
-        Err(_) => PyValueError::new_err(message),
+use crate::errors::{input_error, CoreError};
+
+/// An index width the binding reads: `Idx` for the core, `Element` for numpy.
+pub(crate) trait Index: Idx + Element {}
+impl<T: Idx + Element> Index for T {}
+
+/// Run `work` without the GIL. A core error becomes its Python exception
+/// (see [`CoreError`]); a panic (a bug, never input) becomes `RuntimeError`
+/// instead of crossing into Python as `PanicException`.
+pub(crate) fn compute<T: Send>(
+    py: Python<'_>,
+    work: impl FnOnce() -> Result<T, Error> + Send,
+) -> PyResult<T> {
+    match py.detach(|| catch_unwind(AssertUnwindSafe(work))) {
+        Ok(Ok(value)) => Ok(value),
+        Ok(Err(error)) => Err(CoreError(error).into()),
+        Err(payload) => {
+            let what = payload
+                .downcast_ref::<&str>()
+                .map(|s| s.to_string())
+                .or_else(|| payload.downcast_ref::<String>().cloned())
+                .unwrap_or_default();
+            Err(PyRuntimeError::new_err(format!("toporank internal error (please report): {what}")))
+        }
     }
 }
 
-/// Run `work` without the GIL; a panic (a bug, never input) becomes a
-/// `RuntimeError` instead of crossing into Python as `PanicException`.
-pub(crate) fn compute<T: Send>(py: Python<'_>, work: impl FnOnce() -> T + Send) -> PyResult<T> {
-    py.detach(|| catch_unwind(AssertUnwindSafe(work))).map_err(|payload| {
-        let what = payload
-            .downcast_ref::<&str>()
-            .map(|s| s.to_string())
-            .or_else(|| payload.downcast_ref::<String>().cloned())
-            .unwrap_or_default();
-        PyRuntimeError::new_err(format!("toporank internal error (please report): {what}"))
-    })
+/// A read-only, contiguous 1-D numpy array argument, borrowed without a copy.
+pub(crate) struct Array<'py, T: Element> {
+    array: PyReadonlyArray1<'py, T>,
+    name: &'static str,
 }
 
-pub(crate) fn slice<'a, T: numpy::Element>(
-    array: &'a PyReadonlyArray1<'_, T>,
-    name: &str,
-) -> PyResult<&'a [T]> {
-    array
-        .as_slice()
-        .map_err(|_| PyValueError::new_err(format!("{name} must be a contiguous 1-D array")))
+impl<T: Element> Array<'_, T> {
+    /// The values as a slice.
+    pub(crate) fn values(&self) -> PyResult<&[T]> {
+        self.array.as_slice().map_err(|_| not_contiguous(self.name))
+    }
+}
+
+fn not_contiguous(name: &str) -> PyErr {
+    input_error(format!("{name} must be a contiguous 1-D array"))
+}
+
+/// Whether `object` is a 1-D numpy array of dtype `T`.
+pub(crate) fn has_dtype<T: Element>(object: &Bound<'_, PyAny>) -> bool {
+    object.cast::<PyArray1<T>>().is_ok()
+}
+
+/// Argument `name` as a read-only contiguous 1-D array of dtype `T`.
+pub(crate) fn read<'py, T: Element>(
+    object: &Bound<'py, PyAny>,
+    name: &'static str,
+    expected: &str,
+) -> PyResult<Array<'py, T>> {
+    let array = object.cast::<PyArray1<T>>().map_err(|_| {
+        let found = match (object.getattr("dtype"), object.getattr("shape")) {
+            (Ok(dtype), Ok(shape)) => format!("dtype {dtype} and shape {shape}"),
+            _ => object.get_type().to_string(),
+        };
+        input_error(format!("{name} must be a 1-D numpy array of {expected}, got {found}"))
+    })?;
+    let array = array.readonly();
+    if !array.is_contiguous() {
+        return Err(not_contiguous(name));
+    }
+    Ok(Array { array, name })
+}
+
+/// [`read`] for an optional argument.
+pub(crate) fn read_optional<'py, T: Element>(
+    object: Option<&Bound<'py, PyAny>>,
+    name: &'static str,
+    expected: &str,
+) -> PyResult<Option<Array<'py, T>>> {
+    object.map(|o| read(o, name, expected)).transpose()
+}
+
+/// The work of one entry point at one index width: the one generic function
+/// of that entry point. [`on_graph`] picks the width.
+pub(crate) trait OnGraph<'py> {
+    type Output;
+    fn run<I: Index>(self, py: Python<'py>, indptr: &[I], indices: &[I]) -> PyResult<Self::Output>;
+}
+
+/// The index widths of a pair of graph arrays, decided once here. A mixed
+/// pair (say int64 `indptr` with int32 `indices`, or uint32 ids) becomes one
+/// more arm once the core's `Csr` takes two widths.
+pub(crate) fn on_graph<'py, K: OnGraph<'py>>(
+    py: Python<'py>,
+    indptr: &Bound<'py, PyAny>,
+    indices: &Bound<'py, PyAny>,
+    kernel: K,
+) -> PyResult<K::Output> {
+    on_pair(py, ("indptr", indptr), ("indices", indices), kernel)
+}
+
+/// [`on_graph`] for any pair of same-width id arrays (`src`/`dst` too).
+pub(crate) fn on_pair<'py, K: OnGraph<'py>>(
+    py: Python<'py>,
+    (first_name, first): (&'static str, &Bound<'py, PyAny>),
+    (second_name, second): (&'static str, &Bound<'py, PyAny>),
+    kernel: K,
+) -> PyResult<K::Output> {
+    const WIDTHS: &str = "int32 or int64";
+    if has_dtype::<i64>(first) && has_dtype::<i64>(second) {
+        let a = read::<i64>(first, first_name, WIDTHS)?;
+        let b = read::<i64>(second, second_name, WIDTHS)?;
+        kernel.run(py, a.values()?, b.values()?)
+    } else if has_dtype::<i32>(first) && has_dtype::<i32>(second) {
+        let a = read::<i32>(first, first_name, WIDTHS)?;
+        let b = read::<i32>(second, second_name, WIDTHS)?;
+        kernel.run(py, a.values()?, b.values()?)
+    } else {
+        Err(input_error(format!(
+            "{first_name} and {second_name} must be 1-D numpy arrays of one dtype, {WIDTHS}"
+        )))
+    }
+}
+
+/// Why a graph has no topological order: what Kahn's loop emitted before the
+/// ready set ran dry, the nodes it never reached and one cycle among them.
+/// Every entry point that meets a cycle returns this instead of its result.
+#[pyclass(frozen, module = "toporank._core")]
+pub(crate) struct Cyclic {
+    /// The nodes emitted, in order.
+    #[pyo3(get)]
+    order: Py<PyAny>,
+    /// The nodes never emitted, ascending id.
+    #[pyo3(get)]
+    blocked: Py<PyAny>,
+    /// One directed cycle among the blocked nodes.
+    #[pyo3(get)]
+    cycle: Py<PyAny>,
+}
+
+/// A core Kahn outcome as a [`Cyclic`].
+pub(crate) fn cyclic<'py, I: Index>(
+    py: Python<'py>,
+    outcome: Outcome<I>,
+) -> PyResult<Bound<'py, PyAny>> {
+    let found = Cyclic {
+        order: array(py, outcome.order),
+        blocked: array(py, outcome.blocked),
+        cycle: array(py, outcome.cycle),
+    };
+    Ok(Bound::new(py, found)?.into_any())
+}
+
+/// A vector handed to numpy without a copy.
+pub(crate) fn array<T: Element>(py: Python<'_>, values: Vec<T>) -> Py<PyAny> {
+    values.into_pyarray(py).into_any().unbind()
+}
+
+/// An optional vector handed to numpy, `None` staying `None`.
+pub(crate) fn optional_array<T: Element>(
+    py: Python<'_>,
+    values: Option<Vec<T>>,
+) -> Option<Py<PyAny>> {
+    values.map(|v| array(py, v))
+}
+
+pub(crate) fn register(m: &Bound<'_, PyModule>) -> PyResult<()> {
+    m.add_class::<Cyclic>()?;
+    Ok(())
 }

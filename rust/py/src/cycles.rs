@@ -1,60 +1,100 @@
 //! Graphs with cycles: components, condensation, witnesses, cycle cuts.
 
-use numpy::{IntoPyArray, PyArray1, PyArrayMethods};
-use pyo3::exceptions::{PyTypeError, PyValueError};
 use pyo3::prelude::*;
-use pyo3::types::PyTuple;
-use toporank_core::{condense, cut, scc, witness, Csr};
+use toporank_core::{condense, cut, scc, witness, Csr, Tie};
 
-use crate::common::{compute, slice, to_pyerr};
+use crate::common::{array, compute, on_graph, optional_array, Index, OnGraph};
+use crate::errors::input_error;
 use crate::order::{make_tie, read_key};
 
-/// Strongly connected component of every node, numbered topologically.
-///
-/// Returns `(labels, count)`.
+/// Strongly connected components, numbered topologically.
+#[pyclass(frozen, get_all, module = "toporank._core")]
+struct Components {
+    /// Component of every node.
+    labels: Py<PyAny>,
+    count: usize,
+}
+
+struct ComponentsOf;
+
+impl<'py> OnGraph<'py> for ComponentsOf {
+    type Output = Components;
+    fn run<I: Index>(self, py: Python<'py>, indptr: &[I], indices: &[I]) -> PyResult<Components> {
+        let found = compute(py, || scc::strong_components(&Csr::new(indptr, indices)?))?;
+        Ok(Components { count: found.count, labels: array(py, found.labels) })
+    }
+}
+
+/// Strongly connected component of every node (a `Components`).
 #[pyfunction]
 fn strong_components<'py>(
     py: Python<'py>,
     indptr: &Bound<'py, PyAny>,
     indices: &Bound<'py, PyAny>,
-) -> PyResult<Bound<'py, PyTuple>> {
-    with_index_width!(indptr, indices, I => {
-        let (indptr, indices) = (slice(&indptr, "indptr")?, slice(&indices, "indices")?);
-        let found = compute(py, || Csr::<I>::new(indptr, indices).and_then(|g| scc::strong_components(&g)))?
-            .map_err(|e| to_pyerr(py, e))?;
-        (found.labels.into_pyarray(py), found.count).into_pyobject(py)
-    })
+) -> PyResult<Components> {
+    on_graph(py, indptr, indices, ComponentsOf)
 }
 
-/// Components and the condensation.
-///
-/// Returns `(labels, sizes, indptr, indices, weights)`; the last three are
-/// the component graph as CSR with ascending targets per row.
+/// Components and the component graph as CSR (ascending targets per row).
+#[pyclass(frozen, get_all, module = "toporank._core")]
+struct Condensation {
+    labels: Py<PyAny>,
+    sizes: Py<PyAny>,
+    indptr: Py<PyAny>,
+    indices: Py<PyAny>,
+    /// How many edges of the graph each component edge stands for.
+    weights: Py<PyAny>,
+}
+
+struct CondensationOf;
+
+impl<'py> OnGraph<'py> for CondensationOf {
+    type Output = Condensation;
+    fn run<I: Index>(self, py: Python<'py>, indptr: &[I], indices: &[I]) -> PyResult<Condensation> {
+        let (components, condensed) = compute(py, || {
+            let g = Csr::new(indptr, indices)?;
+            let components = scc::strong_components(&g)?;
+            let condensed = scc::condensation(&g, &components)?;
+            Ok((components, condensed))
+        })?;
+        Ok(Condensation {
+            sizes: array(py, components.sizes()),
+            labels: array(py, components.labels),
+            indptr: array(py, condensed.indptr),
+            indices: array(py, condensed.indices),
+            weights: array(py, condensed.weights),
+        })
+    }
+}
+
+/// Components and the condensation (a `Condensation`).
 #[pyfunction]
 fn condensation<'py>(
     py: Python<'py>,
     indptr: &Bound<'py, PyAny>,
     indices: &Bound<'py, PyAny>,
-) -> PyResult<Bound<'py, PyTuple>> {
-    with_index_width!(indptr, indices, I => {
-        let (indptr, indices) = (slice(&indptr, "indptr")?, slice(&indices, "indices")?);
-        let built = compute(py, || {
-            let g = Csr::<I>::new(indptr, indices)?;
-            let components = scc::strong_components(&g)?;
-            let condensed = scc::condensation(&g, &components)?;
-            Ok((components.sizes(), components.labels, condensed))
-        })?
-        .map_err(|e| to_pyerr(py, e))?;
-        let (sizes, labels, condensed) = built;
-        (
-            labels.into_pyarray(py),
-            sizes.into_pyarray(py),
-            condensed.indptr.into_pyarray(py),
-            condensed.indices.into_pyarray(py),
-            condensed.weights.into_pyarray(py),
-        )
-            .into_pyobject(py)
-    })
+) -> PyResult<Condensation> {
+    on_graph(py, indptr, indices, CondensationOf)
+}
+
+struct OrderDespiteCycles<'a> {
+    condensed: bool,
+    tie: Tie<'a>,
+}
+
+impl<'py> OnGraph<'py> for OrderDespiteCycles<'_> {
+    type Output = Bound<'py, PyAny>;
+    fn run<I: Index>(self, py: Python<'py>, indptr: &[I], indices: &[I]) -> PyResult<Self::Output> {
+        let order = compute(py, || {
+            let g = Csr::new(indptr, indices)?;
+            if self.condensed {
+                condense::condensed_order(&g, &self.tie)
+            } else {
+                cut::cut_order(&g, &self.tie)
+            }
+        })?;
+        Ok(array(py, order).into_bound(py))
+    }
 }
 
 /// Every node in an order despite cycles: `on_cycle = "condense"` keeps
@@ -78,17 +118,30 @@ fn order_despite_cycles<'py>(
     let condensed = match on_cycle {
         "condense" => true,
         "cut" => false,
-        other => return Err(PyValueError::new_err(format!("unknown on_cycle {other:?}"))),
+        other => {
+            let choices = "('condense', 'cut')";
+            return Err(input_error(format!("on_cycle must be one of {choices}, got '{other}'")));
+        }
     };
-    with_index_width!(indptr, indices, I => {
-        let (indptr, indices) = (slice(&indptr, "indptr")?, slice(&indices, "indices")?);
-        let order = compute(py, || {
-            let g = Csr::<I>::new(indptr, indices)?;
-            if condensed { condense::condensed_order(&g, &tie) } else { cut::cut_order(&g, &tie) }
-        })?
-        .map_err(|e| to_pyerr(py, e))?;
-        Ok(order.into_pyarray(py).into_any())
-    })
+    on_graph(py, indptr, indices, OrderDespiteCycles { condensed, tie })
+}
+
+struct CycleWitness {
+    through: Option<i64>,
+}
+
+impl<'py> OnGraph<'py> for CycleWitness {
+    type Output = Option<Py<PyAny>>;
+    fn run<I: Index>(self, py: Python<'py>, indptr: &[I], indices: &[I]) -> PyResult<Self::Output> {
+        let found = compute(py, || {
+            let g = Csr::new(indptr, indices)?;
+            match self.through {
+                Some(v) => witness::shortest_cycle_through(&g, v as i128),
+                None => witness::find_cycle(&g),
+            }
+        })?;
+        Ok(optional_array(py, found))
+    }
 }
 
 /// A shortest cycle through `through`, or through the smallest node on any
@@ -100,39 +153,44 @@ fn cycle_witness<'py>(
     indptr: &Bound<'py, PyAny>,
     indices: &Bound<'py, PyAny>,
     through: Option<i64>,
-) -> PyResult<Option<Bound<'py, PyAny>>> {
-    with_index_width!(indptr, indices, I => {
-        let (indptr, indices) = (slice(&indptr, "indptr")?, slice(&indices, "indices")?);
-        let found = compute(py, || {
-            let g = Csr::<I>::new(indptr, indices)?;
-            match through {
-                Some(v) => witness::shortest_cycle_through(&g, v as i128),
-                None => witness::find_cycle(&g),
-            }
-        })?
-        .map_err(|e| to_pyerr(py, e))?;
-        Ok(found.map(|cycle| cycle.into_pyarray(py).into_any()))
-    })
+) -> PyResult<Option<Py<PyAny>>> {
+    on_graph(py, indptr, indices, CycleWitness { through })
 }
 
-/// A minimal cycle cut: `(removed, order)` with `removed` the stored
-/// positions of the cut edges (ascending, int64).
+/// A minimal cycle cut.
+#[pyclass(frozen, get_all, module = "toporank._core")]
+struct Cut {
+    /// Stored positions of the cut edges, ascending, int64.
+    removed: Py<PyAny>,
+    /// A topological order of the graph without them.
+    order: Py<PyAny>,
+}
+
+struct CutOf;
+
+impl<'py> OnGraph<'py> for CutOf {
+    type Output = Cut;
+    fn run<I: Index>(self, py: Python<'py>, indptr: &[I], indices: &[I]) -> PyResult<Cut> {
+        let found = compute(py, || cut::cut_cycles(&Csr::new(indptr, indices)?))?;
+        let removed: Vec<i64> = found.removed.into_iter().map(|k| k as i64).collect();
+        Ok(Cut { removed: array(py, removed), order: array(py, found.order) })
+    }
+}
+
+/// A minimal cycle cut (a `Cut`).
 #[pyfunction]
 fn cut_cycles<'py>(
     py: Python<'py>,
     indptr: &Bound<'py, PyAny>,
     indices: &Bound<'py, PyAny>,
-) -> PyResult<Bound<'py, PyTuple>> {
-    with_index_width!(indptr, indices, I => {
-        let (indptr, indices) = (slice(&indptr, "indptr")?, slice(&indices, "indices")?);
-        let found = compute(py, || Csr::<I>::new(indptr, indices).and_then(|g| cut::cut_cycles(&g)))?
-            .map_err(|e| to_pyerr(py, e))?;
-        let removed: Vec<i64> = found.removed.into_iter().map(|k| k as i64).collect();
-        (removed.into_pyarray(py), found.order.into_pyarray(py)).into_pyobject(py)
-    })
+) -> PyResult<Cut> {
+    on_graph(py, indptr, indices, CutOf)
 }
 
 pub(crate) fn register(m: &Bound<'_, PyModule>) -> PyResult<()> {
+    m.add_class::<Components>()?;
+    m.add_class::<Condensation>()?;
+    m.add_class::<Cut>()?;
     m.add_function(wrap_pyfunction!(strong_components, m)?)?;
     m.add_function(wrap_pyfunction!(condensation, m)?)?;
     m.add_function(wrap_pyfunction!(order_despite_cycles, m)?)?;

@@ -1,62 +1,79 @@
 //! Kahn's algorithm, edge lists to CSR, order checks.
 
-use numpy::{IntoPyArray, PyArray1, PyArrayMethods, PyReadonlyArray1};
-use pyo3::exceptions::{PyTypeError, PyValueError};
 use pyo3::prelude::*;
-use pyo3::types::PyTuple;
-use toporank_core::verify::Violation;
-use toporank_core::{edges, kahn_shared, verify, Csr, Key, KeyValues, Tie};
+use toporank_core::verify::{self, Violation as CoreViolation};
+use toporank_core::{edges, kahn_shared, Csr, Key, KeyValues, Tie};
 
-use crate::common::{compute, slice, to_pyerr};
+use crate::common::{
+    array, compute, cyclic, has_dtype, on_graph, on_pair, optional_array, read, Array, Index,
+    OnGraph,
+};
+use crate::errors::input_error;
 
-pub(crate) enum OwnedKey<'py> {
+/// A per-node key of one of the dtypes the core compares.
+pub(crate) enum KeyArray<'py> {
     None,
-    I64(PyReadonlyArray1<'py, i64>),
-    U64(PyReadonlyArray1<'py, u64>),
-    F64(PyReadonlyArray1<'py, f64>),
+    I64(Array<'py, i64>),
+    U64(Array<'py, u64>),
+    F64(Array<'py, f64>),
 }
 
-pub(crate) fn read_key<'py>(key: Option<&Bound<'py, PyAny>>) -> PyResult<OwnedKey<'py>> {
-    let Some(key) = key else {
-        return Ok(OwnedKey::None);
-    };
-    if let Ok(a) = key.cast::<PyArray1<i64>>() {
-        return Ok(OwnedKey::I64(a.readonly()));
-    }
-    if let Ok(a) = key.cast::<PyArray1<u64>>() {
-        return Ok(OwnedKey::U64(a.readonly()));
-    }
-    if let Ok(a) = key.cast::<PyArray1<f64>>() {
-        return Ok(OwnedKey::F64(a.readonly()));
-    }
-    Err(PyTypeError::new_err("key must be a 1-D numpy array of int64, uint64 or float64"))
+const KEY_DTYPES: &str = "int64, uint64 or float64";
+
+pub(crate) fn read_key<'py>(key: Option<&Bound<'py, PyAny>>) -> PyResult<KeyArray<'py>> {
+    Ok(match key {
+        None => KeyArray::None,
+        Some(k) if has_dtype::<u64>(k) => KeyArray::U64(read(k, "key", KEY_DTYPES)?),
+        Some(k) if has_dtype::<f64>(k) => KeyArray::F64(read(k, "key", KEY_DTYPES)?),
+        Some(k) => KeyArray::I64(read(k, "key", KEY_DTYPES)?),
+    })
 }
 
-/// The tie-break policy named `tie`, borrowing its key from `key`.
+/// The tie-break policy named `tie` (checked by `toporank._validate`),
+/// borrowing its key from `key`.
 pub(crate) fn make_tie<'a>(
     tie: &str,
-    key: &'a OwnedKey<'_>,
+    key: &'a KeyArray<'_>,
     descending: bool,
     seed: u64,
 ) -> PyResult<Tie<'a>> {
     let values = match key {
-        OwnedKey::None => None,
-        OwnedKey::I64(a) => Some(KeyValues::I64(slice(a, "key")?)),
-        OwnedKey::U64(a) => Some(KeyValues::U64(slice(a, "key")?)),
-        OwnedKey::F64(a) => Some(KeyValues::F64(slice(a, "key")?)),
+        KeyArray::None => None,
+        KeyArray::I64(a) => Some(KeyValues::I64(a.values()?)),
+        KeyArray::U64(a) => Some(KeyValues::U64(a.values()?)),
+        KeyArray::F64(a) => Some(KeyValues::F64(a.values()?)),
     };
     Ok(match tie {
         "queue" => Tie::Queue,
         "stack" => Tie::Stack,
         "priority" => Tie::Priority(Key { values, descending }),
         "random" => Tie::Random { seed },
-        other => return Err(PyValueError::new_err(format!("unknown tie {other:?}"))),
+        other => {
+            let choices = "('queue', 'stack', 'priority', 'random')";
+            return Err(input_error(format!("tie must be one of {choices}, got '{other}'")));
+        }
     })
 }
 
-/// Kahn's algorithm on a CSR graph.
-///
-/// Returns `(order, blocked, cycle)`; `blocked` and `cycle` are empty for a DAG.
+struct KahnOrder<'a> {
+    tie: Tie<'a>,
+    threads: usize,
+}
+
+impl<'py> OnGraph<'py> for KahnOrder<'_> {
+    type Output = Bound<'py, PyAny>;
+    fn run<I: Index>(self, py: Python<'py>, indptr: &[I], indices: &[I]) -> PyResult<Self::Output> {
+        let outcome =
+            compute(py, || kahn_shared(&Csr::new(indptr, indices)?, &self.tie, self.threads))?;
+        if outcome.is_complete() {
+            Ok(array(py, outcome.order).into_bound(py))
+        } else {
+            cyclic(py, outcome)
+        }
+    }
+}
+
+/// Kahn's algorithm on a CSR graph: the order, or a `Cyclic`.
 #[pyfunction]
 #[pyo3(signature = (indptr, indices, tie, key=None, descending=false, seed=0, threads=1))]
 #[allow(clippy::too_many_arguments)]
@@ -69,25 +86,42 @@ fn kahn_order<'py>(
     descending: bool,
     seed: u64,
     threads: usize,
-) -> PyResult<Bound<'py, PyTuple>> {
+) -> PyResult<Bound<'py, PyAny>> {
     let key = read_key(key)?;
     let tie = make_tie(tie, &key, descending, seed)?;
-    with_index_width!(indptr, indices, I => {
-        let (indptr, indices) = (slice(&indptr, "indptr")?, slice(&indices, "indices")?);
-        let outcome = compute(py, || {
-            Csr::<I>::new(indptr, indices).and_then(|g| kahn_shared(&g, &tie, threads))
-        })?
-            .map_err(|e| to_pyerr(py, e))?;
-        (
-            outcome.order.into_pyarray(py),
-            outcome.blocked.into_pyarray(py),
-            outcome.cycle.into_pyarray(py),
-        )
-            .into_pyobject(py)
-    })
+    on_graph(py, indptr, indices, KahnOrder { tie, threads })
 }
 
-/// Group an edge list by source (stable), returning `(indptr, indices, edge_ids)`.
+/// A CSR graph built from an edge list.
+#[pyclass(frozen, module = "toporank._core")]
+struct CsrArrays {
+    #[pyo3(get)]
+    indptr: Py<PyAny>,
+    #[pyo3(get)]
+    indices: Py<PyAny>,
+    /// Input position of each stored edge, when asked for.
+    #[pyo3(get)]
+    edge_ids: Option<Py<PyAny>>,
+}
+
+struct EdgesToCsr {
+    n: usize,
+    with_edge_ids: bool,
+}
+
+impl<'py> OnGraph<'py> for EdgesToCsr {
+    type Output = CsrArrays;
+    fn run<I: Index>(self, py: Python<'py>, src: &[I], dst: &[I]) -> PyResult<CsrArrays> {
+        let built = compute(py, || edges::edges_to_csr(src, dst, self.n, self.with_edge_ids))?;
+        Ok(CsrArrays {
+            indptr: array(py, built.indptr),
+            indices: array(py, built.indices),
+            edge_ids: optional_array(py, built.edge_ids),
+        })
+    }
+}
+
+/// Group an edge list by source (stable).
 #[pyfunction]
 #[pyo3(signature = (src, dst, n, with_edge_ids=false))]
 fn edges_to_csr<'py>(
@@ -96,73 +130,115 @@ fn edges_to_csr<'py>(
     dst: &Bound<'py, PyAny>,
     n: usize,
     with_edge_ids: bool,
-) -> PyResult<Bound<'py, PyTuple>> {
-    with_index_width!(src, dst, I => {
-        let (src, dst) = (slice(&src, "src")?, slice(&dst, "dst")?);
-        let built = compute(py, || edges::edges_to_csr::<I>(src, dst, n, with_edge_ids))?
-            .map_err(|e| to_pyerr(py, e))?;
-        let edge_ids = built.edge_ids.map(|ids| ids.into_pyarray(py));
-        (built.indptr.into_pyarray(py), built.indices.into_pyarray(py), edge_ids).into_pyobject(py)
-    })
+) -> PyResult<CsrArrays> {
+    on_pair(py, ("src", src), ("dst", dst), EdgesToCsr { n, with_edge_ids })
 }
 
-/// A violation as a plain tuple; the Python layer words the message.
-fn violation_tuple<'py>(py: Python<'py>, violation: Violation) -> PyResult<Bound<'py, PyTuple>> {
-    match violation {
-        Violation::OutOfRange { position, value } => {
-            ("out_of_range", position, value as i64).into_pyobject(py)
-        }
-        Violation::Duplicate { node, first, second } => {
-            ("duplicate", node, first, second).into_pyobject(py)
-        }
-        Violation::Missing { node } => ("missing", node).into_pyobject(py),
-        Violation::Edge { edge, u, v, pos_u, pos_v } => {
-            ("edge", edge, u, v, pos_u, pos_v).into_pyobject(py)
+/// Why a sequence is not a topological order; the Python layer words it.
+///
+/// `kind` is `"out_of_range"` (`position`, `value`), `"duplicate"` (`node`,
+/// `first`, `second`), `"missing"` (`node`) or `"edge"` (stored edge
+/// `edge`, `source -> target`, at positions `first` and `second`).
+#[pyclass(frozen, get_all, module = "toporank._core")]
+struct Violation {
+    kind: &'static str,
+    node: Option<usize>,
+    edge: Option<usize>,
+    source: Option<usize>,
+    target: Option<usize>,
+    first: Option<usize>,
+    second: Option<usize>,
+    position: Option<usize>,
+    value: Option<i128>,
+}
+
+impl From<CoreViolation> for Violation {
+    fn from(found: CoreViolation) -> Self {
+        let none = Violation {
+            kind: "",
+            node: None,
+            edge: None,
+            source: None,
+            target: None,
+            first: None,
+            second: None,
+            position: None,
+            value: None,
+        };
+        match found {
+            CoreViolation::OutOfRange { position, value } => Violation {
+                kind: "out_of_range",
+                position: Some(position),
+                value: Some(value),
+                ..none
+            },
+            CoreViolation::Duplicate { node, first, second } => Violation {
+                kind: "duplicate",
+                node: Some(node),
+                first: Some(first),
+                second: Some(second),
+                ..none
+            },
+            CoreViolation::Missing { node } => {
+                Violation { kind: "missing", node: Some(node), ..none }
+            }
+            CoreViolation::Edge { edge, u, v, pos_u, pos_v } => Violation {
+                kind: "edge",
+                edge: Some(edge),
+                source: Some(u),
+                target: Some(v),
+                first: Some(pos_u),
+                second: Some(pos_v),
+                ..none
+            },
         }
     }
 }
 
-fn read_order<'py>(order: &Bound<'py, PyAny>) -> PyResult<PyReadonlyArray1<'py, i64>> {
-    order
-        .cast::<PyArray1<i64>>()
-        .map(|a| a.readonly())
-        .map_err(|_| PyTypeError::new_err("order must be a 1-D int64 numpy array"))
+const ORDER_DTYPE: &str = "int64";
+
+struct VerifyOrder<'a> {
+    order: &'a [i64],
 }
 
-/// `None` if `order` is a topological order of the graph, else a violation tuple.
+impl<'py> OnGraph<'py> for VerifyOrder<'_> {
+    type Output = Option<Violation>;
+    fn run<I: Index>(self, py: Python<'py>, indptr: &[I], indices: &[I]) -> PyResult<Self::Output> {
+        let found = compute(py, || verify::verify(&Csr::new(indptr, indices)?, self.order))?;
+        Ok(found.map(Violation::from))
+    }
+}
+
+/// `None` if `order` is a topological order of the graph, else a `Violation`.
 #[pyfunction]
 fn verify_order<'py>(
     py: Python<'py>,
     indptr: &Bound<'py, PyAny>,
     indices: &Bound<'py, PyAny>,
     order: &Bound<'py, PyAny>,
-) -> PyResult<Option<Bound<'py, PyTuple>>> {
-    let order = read_order(order)?;
-    let order = slice(&order, "order")?;
-    with_index_width!(indptr, indices, I => {
-        let (indptr, indices) = (slice(&indptr, "indptr")?, slice(&indices, "indices")?);
-        let found = compute(py, || Csr::<I>::new(indptr, indices).and_then(|g| verify::verify(&g, order)))?
-            .map_err(|e| to_pyerr(py, e))?;
-        found.map(|v| violation_tuple(py, v)).transpose()
-    })
+) -> PyResult<Option<Violation>> {
+    let order = read::<i64>(order, "order", ORDER_DTYPE)?;
+    on_graph(py, indptr, indices, VerifyOrder { order: order.values()? })
 }
 
-/// Position of each node in `order` (a permutation of `0..n`), or a violation tuple.
+/// Position of each node in `order` (a permutation of `0..n`), or a `Violation`.
 #[pyfunction]
 fn positions<'py>(
     py: Python<'py>,
     order: &Bound<'py, PyAny>,
     n: usize,
 ) -> PyResult<Bound<'py, PyAny>> {
-    let order = read_order(order)?;
-    let order = slice(&order, "order")?;
-    match compute(py, || verify::positions(order, n))? {
-        Ok(position) => Ok(position.into_pyarray(py).into_any()),
-        Err(violation) => Ok(violation_tuple(py, violation)?.into_any()),
+    let order = read::<i64>(order, "order", ORDER_DTYPE)?;
+    let order = order.values()?;
+    match compute(py, || Ok(verify::positions(order, n)))? {
+        Ok(position) => Ok(array(py, position).into_bound(py)),
+        Err(found) => Ok(Bound::new(py, Violation::from(found))?.into_any()),
     }
 }
 
 pub(crate) fn register(m: &Bound<'_, PyModule>) -> PyResult<()> {
+    m.add_class::<CsrArrays>()?;
+    m.add_class::<Violation>()?;
     m.add_function(wrap_pyfunction!(kahn_order, m)?)?;
     m.add_function(wrap_pyfunction!(edges_to_csr, m)?)?;
     m.add_function(wrap_pyfunction!(verify_order, m)?)?;

@@ -1,92 +1,94 @@
 //! List scheduling on identical workers, and the bottom levels behind its
 //! critical-path priority.
 
-use numpy::{Element, IntoPyArray, PyArray1, PyArrayMethods, PyReadonlyArray1};
-use pyo3::exceptions::{PyTypeError, PyValueError};
+use numpy::Element;
 use pyo3::prelude::*;
-use pyo3::types::PyTuple;
-use toporank_core::kahn::Outcome;
+use pyo3::IntoPyObjectExt;
 use toporank_core::schedule::{self, Duration, Policy, Scheduled};
-use toporank_core::{Csr, Idx};
+use toporank_core::Csr;
 
-use crate::common::{compute, slice, to_pyerr};
+use crate::common::{
+    array, compute, cyclic, has_dtype, on_graph, read, read_optional, Array, Index, OnGraph,
+};
+use crate::errors::input_error;
 
-/// `(None, (order, blocked, cycle))`: the Kahn outcome naming a cycle.
-fn cyclic<'py, I: Idx + Element>(
-    py: Python<'py>,
-    outcome: Outcome<I>,
-) -> PyResult<Bound<'py, PyTuple>> {
-    let found = (
-        outcome.order.into_pyarray(py),
-        outcome.blocked.into_pyarray(py),
-        outcome.cycle.into_pyarray(py),
-    );
-    (py.None(), found).into_pyobject(py)
+/// Durations as the core takes them: whole numbers or floats.
+enum Durations<'py> {
+    Int(Array<'py, i64>),
+    Float(Array<'py, f64>),
 }
 
-fn run<'py, I: Idx + Element, T: Duration + Element + IntoPyObject<'py>>(
-    py: Python<'py>,
-    indptr: &[I],
-    indices: &[I],
-    durations: &[T],
+fn read_durations<'py>(durations: &Bound<'py, PyAny>) -> PyResult<Durations<'py>> {
+    const DTYPES: &str = "int64 or float64";
+    if has_dtype::<f64>(durations) {
+        return Ok(Durations::Float(read(durations, "durations", DTYPES)?));
+    }
+    Ok(Durations::Int(read(durations, "durations", DTYPES)?))
+}
+
+/// A Graham list schedule; times in the durations' type (int or float).
+#[pyclass(frozen, get_all, module = "toporank._core")]
+struct Schedule {
+    start: Py<PyAny>,
+    worker: Py<PyAny>,
+    /// The tasks in the order they started.
+    order: Py<PyAny>,
+    makespan: Py<PyAny>,
+    critical_path: Py<PyAny>,
+    total_work: Py<PyAny>,
+}
+
+fn scalar<'py, T: IntoPyObject<'py>>(py: Python<'py>, value: T) -> PyResult<Py<PyAny>> {
+    value.into_py_any(py)
+}
+
+struct ListSchedule<'a> {
+    durations: &'a Durations<'a>,
     workers: usize,
-    policy: &Policy<'_>,
-) -> PyResult<Bound<'py, PyTuple>> {
-    let found = compute(py, || {
-        let g = Csr::new(indptr, indices)?;
-        schedule::list_schedule(&g, durations, workers, policy)
-    })?
-    .map_err(|e| to_pyerr(py, e))?;
-    match found {
-        Scheduled::Cyclic(outcome) => cyclic(py, outcome),
-        Scheduled::Done(s) => {
-            let done = (
-                s.start.into_pyarray(py),
-                s.worker.into_pyarray(py),
-                s.order.into_pyarray(py),
-                s.makespan,
-                s.critical_path,
-                s.total_work,
-            );
-            (done, py.None()).into_pyobject(py)
+    policy: Policy<'a>,
+}
+
+impl ListSchedule<'_> {
+    fn with<'py, I: Index, T>(
+        &self,
+        py: Python<'py>,
+        g: (&[I], &[I]),
+        d: &[T],
+    ) -> PyResult<Bound<'py, PyAny>>
+    where
+        T: Duration + Element + IntoPyObject<'py>,
+    {
+        let (workers, policy) = (self.workers, &self.policy);
+        let found =
+            compute(py, || schedule::list_schedule(&Csr::new(g.0, g.1)?, d, workers, policy))?;
+        match found {
+            Scheduled::Cyclic(outcome) => cyclic(py, outcome),
+            Scheduled::Done(s) => {
+                let done = Schedule {
+                    start: array(py, s.start),
+                    worker: array(py, s.worker),
+                    order: array(py, s.order),
+                    makespan: scalar(py, s.makespan)?,
+                    critical_path: scalar(py, s.critical_path)?,
+                    total_work: scalar(py, s.total_work)?,
+                };
+                Ok(Bound::new(py, done)?.into_any())
+            }
         }
     }
 }
 
-fn levels<'py, I: Idx + Element, T: Duration + Element>(
-    py: Python<'py>,
-    indptr: &[I],
-    indices: &[I],
-    durations: &[T],
-) -> PyResult<Bound<'py, PyTuple>> {
-    let found = compute(py, || {
-        let g = Csr::new(indptr, indices)?;
-        schedule::bottom_levels(&g, durations)
-    })?
-    .map_err(|e| to_pyerr(py, e))?;
-    match found {
-        Err(outcome) => cyclic(py, outcome),
-        Ok(level) => (level.into_pyarray(py), py.None()).into_pyobject(py),
+impl<'py> OnGraph<'py> for ListSchedule<'_> {
+    type Output = Bound<'py, PyAny>;
+    fn run<I: Index>(self, py: Python<'py>, indptr: &[I], indices: &[I]) -> PyResult<Self::Output> {
+        match self.durations {
+            Durations::Int(d) => self.with(py, (indptr, indices), d.values()?),
+            Durations::Float(d) => self.with(py, (indptr, indices), d.values()?),
+        }
     }
 }
 
-enum Durations<'py> {
-    Int(PyReadonlyArray1<'py, i64>),
-    Float(PyReadonlyArray1<'py, f64>),
-}
-
-fn read_durations<'py>(durations: &Bound<'py, PyAny>) -> PyResult<Durations<'py>> {
-    if let Ok(a) = durations.cast::<PyArray1<i64>>() {
-        return Ok(Durations::Int(a.readonly()));
-    }
-    if let Ok(a) = durations.cast::<PyArray1<f64>>() {
-        return Ok(Durations::Float(a.readonly()));
-    }
-    Err(PyTypeError::new_err("durations must be a 1-D numpy array of int64 or float64"))
-}
-
-/// Graham list schedule: `((start, worker, order, makespan, critical_path,
-/// total_work), None)`, or `(None, (order, blocked, cycle))` for a cyclic graph.
+/// Graham list schedule (a `Schedule`), or a `Cyclic`.
 ///
 /// `policy` is queue, stack, priority (by `rank`, ties to the smaller id; by
 /// id without `rank`), random (from `seed`) or critical.
@@ -102,53 +104,64 @@ fn list_schedule<'py>(
     policy: &str,
     rank: Option<&Bound<'py, PyAny>>,
     seed: u64,
-) -> PyResult<Bound<'py, PyTuple>> {
-    let rank = rank
-        .map(|r| {
-            r.cast::<PyArray1<u64>>()
-                .map(|a| a.readonly())
-                .map_err(|_| PyTypeError::new_err("rank must be a 1-D uint64 numpy array"))
-        })
-        .transpose()?;
-    let rank = rank.as_ref().map(|r| slice(r, "rank")).transpose()?;
+) -> PyResult<Bound<'py, PyAny>> {
+    let rank = read_optional::<u64>(rank, "rank", "uint64")?;
+    let rank = rank.as_ref().map(|r| r.values()).transpose()?;
     let policy = match policy {
         "queue" => Policy::Queue,
         "stack" => Policy::Stack,
         "priority" => Policy::Ranked(rank),
         "random" => Policy::Random { seed },
         "critical" => Policy::CriticalPath,
-        other => return Err(PyValueError::new_err(format!("unknown policy {other:?}"))),
+        other => {
+            let choices = "('queue', 'stack', 'priority', 'random', 'critical')";
+            return Err(input_error(format!("tie must be one of {choices}, got '{other}'")));
+        }
     };
     let durations = read_durations(durations)?;
-    with_index_width!(indptr, indices, I => {
-        let (indptr, indices) = (slice(&indptr, "indptr")?, slice(&indices, "indices")?);
-        match &durations {
-            Durations::Int(d) => run::<I, i64>(py, indptr, indices, slice(d, "durations")?, workers, &policy),
-            Durations::Float(d) => run::<I, f64>(py, indptr, indices, slice(d, "durations")?, workers, &policy),
-        }
-    })
+    on_graph(py, indptr, indices, ListSchedule { durations: &durations, workers, policy })
 }
 
-/// Bottom level of every task: `(levels, None)`, or `(None, (order, blocked,
-/// cycle))` for a cyclic graph.
+struct BottomLevels<'a> {
+    durations: &'a Durations<'a>,
+}
+
+fn bottom<'py, I: Index, T: Duration + Element>(
+    py: Python<'py>,
+    (indptr, indices): (&[I], &[I]),
+    durations: &[T],
+) -> PyResult<Bound<'py, PyAny>> {
+    let found = compute(py, || schedule::bottom_levels(&Csr::new(indptr, indices)?, durations))?;
+    match found {
+        Ok(level) => Ok(array(py, level).into_bound(py)),
+        Err(outcome) => cyclic(py, outcome),
+    }
+}
+
+impl<'py> OnGraph<'py> for BottomLevels<'_> {
+    type Output = Bound<'py, PyAny>;
+    fn run<I: Index>(self, py: Python<'py>, indptr: &[I], indices: &[I]) -> PyResult<Self::Output> {
+        match self.durations {
+            Durations::Int(d) => bottom(py, (indptr, indices), d.values()?),
+            Durations::Float(d) => bottom(py, (indptr, indices), d.values()?),
+        }
+    }
+}
+
+/// Bottom level of every task (an array), or a `Cyclic`.
 #[pyfunction]
 fn bottom_levels<'py>(
     py: Python<'py>,
     indptr: &Bound<'py, PyAny>,
     indices: &Bound<'py, PyAny>,
     durations: &Bound<'py, PyAny>,
-) -> PyResult<Bound<'py, PyTuple>> {
+) -> PyResult<Bound<'py, PyAny>> {
     let durations = read_durations(durations)?;
-    with_index_width!(indptr, indices, I => {
-        let (indptr, indices) = (slice(&indptr, "indptr")?, slice(&indices, "indices")?);
-        match &durations {
-            Durations::Int(d) => levels::<I, i64>(py, indptr, indices, slice(d, "durations")?),
-            Durations::Float(d) => levels::<I, f64>(py, indptr, indices, slice(d, "durations")?),
-        }
-    })
+    on_graph(py, indptr, indices, BottomLevels { durations: &durations })
 }
 
 pub(crate) fn register(m: &Bound<'_, PyModule>) -> PyResult<()> {
+    m.add_class::<Schedule>()?;
     m.add_function(wrap_pyfunction!(list_schedule, m)?)?;
     m.add_function(wrap_pyfunction!(bottom_levels, m)?)?;
     Ok(())

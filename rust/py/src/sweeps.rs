@@ -1,49 +1,67 @@
 //! Sweeps along a topological order: levels, heights, critical path, path counts.
 //!
-//! Each function returns a tuple whose first item is `None` on a DAG, or
-//! `(order, blocked, cycle)` from Kahn's loop when the graph has a cycle, so
-//! the Python layer raises `CyclicGraphError` with labels.
+//! Each returns its result object, or a `Cyclic` when the graph has a cycle,
+//! so the Python layer raises `CyclicGraphError` with labels.
 
-use numpy::{IntoPyArray, PyArray1, PyArrayMethods, PyReadonlyArray1};
-use pyo3::exceptions::PyTypeError;
 use pyo3::prelude::*;
-use pyo3::types::PyTuple;
 use toporank_core::levels as level_sweep;
 use toporank_core::sweep::{Acyclic, Weights};
-use toporank_core::{critical, paths, Csr, Idx, Outcome};
+use toporank_core::{critical, paths, Csr};
 
-use crate::common::{compute, slice, to_pyerr};
+use crate::common::{
+    array, compute, cyclic, on_graph, optional_array, read_optional, Array, Index, OnGraph,
+};
 
-fn cyclic_tuple<'py, I: Idx + numpy::Element>(
-    py: Python<'py>,
-    outcome: Outcome<I>,
-) -> PyResult<Bound<'py, PyAny>> {
-    Ok((
-        outcome.order.into_pyarray(py),
-        outcome.blocked.into_pyarray(py),
-        outcome.cycle.into_pyarray(py),
-    )
-        .into_pyobject(py)?
-        .into_any())
-}
-
-/// Split an [`Acyclic`] into `(None, value)` or `((order, blocked, cycle), None)`.
-fn split<'py, T, I: Idx + numpy::Element>(
+/// The result object of a sweep, or a `Cyclic`.
+fn either<'py, T, I: Index, R: pyo3::PyClass + Into<PyClassInitializer<R>>>(
     py: Python<'py>,
     swept: Acyclic<T, I>,
-) -> PyResult<(Bound<'py, PyAny>, Option<T>)> {
+    done: impl FnOnce(T) -> R,
+) -> PyResult<Bound<'py, PyAny>> {
     match swept {
-        Ok(value) => Ok((py.None().into_bound(py), Some(value))),
-        Err(outcome) => Ok((cyclic_tuple(py, outcome)?, None)),
+        Ok(value) => Ok(Bound::new(py, done(value))?.into_any()),
+        Err(outcome) => cyclic(py, outcome),
     }
 }
 
-fn offsets_array(offsets: &[usize]) -> Vec<i64> {
-    offsets.iter().map(|&k| k as i64).collect()
+/// Levels of a DAG.
+#[pyclass(frozen, get_all, module = "toporank._core")]
+struct Levels {
+    /// Per node id, its level.
+    level: Py<PyAny>,
+    /// With `grouped`: the nodes sorted by `(level, id)`.
+    nodes: Option<Py<PyAny>>,
+    /// With `grouped`: where each level starts in `nodes` (and the end), int64.
+    offsets: Option<Py<PyAny>>,
 }
 
-/// `(cyclic, level, nodes, offsets)`: `nodes` sorted by `(level, id)` and the
-/// level boundaries in it, both `None` unless `grouped`.
+struct LevelsOf {
+    threads: usize,
+    grouped: bool,
+}
+
+impl<'py> OnGraph<'py> for LevelsOf {
+    type Output = Bound<'py, PyAny>;
+    fn run<I: Index>(self, py: Python<'py>, indptr: &[I], indices: &[I]) -> PyResult<Self::Output> {
+        let (threads, grouped) = (self.threads, self.grouped);
+        let swept = compute(py, || {
+            let csr = Csr::new(indptr, indices)?;
+            Ok(level_sweep::level_order(&csr, threads)?.map(|order| {
+                let level = level_sweep::levels_from(&order, threads);
+                let nodes = grouped.then(|| level_sweep::grouped(&level, &order.offsets));
+                let offsets: Vec<i64> = order.offsets.iter().map(|&k| k as i64).collect();
+                (level, nodes, grouped.then_some(offsets))
+            }))
+        })?;
+        either(py, swept, |(level, nodes, offsets)| Levels {
+            level: array(py, level),
+            nodes: optional_array(py, nodes),
+            offsets: optional_array(py, offsets),
+        })
+    }
+}
+
+/// Levels of a DAG (a `Levels`), or a `Cyclic`.
 #[pyfunction]
 #[pyo3(signature = (indptr, indices, threads=1, grouped=false))]
 fn levels<'py>(
@@ -52,33 +70,33 @@ fn levels<'py>(
     indices: &Bound<'py, PyAny>,
     threads: usize,
     grouped: bool,
-) -> PyResult<Bound<'py, PyTuple>> {
-    with_index_width!(indptr, indices, I => {
-        let (indptr, indices) = (slice(&indptr, "indptr")?, slice(&indices, "indices")?);
-        let swept = compute(py, || {
-            let csr = Csr::<I>::new(indptr, indices)?;
-            Ok(level_sweep::level_order(&csr, threads)?.map(|order| {
-                let level = level_sweep::levels_from(&order, threads);
-                let nodes = grouped.then(|| level_sweep::grouped(&level, &order.offsets));
-                (level, nodes, offsets_array(&order.offsets))
-            }))
-        })?
-        .map_err(|e| to_pyerr(py, e))?;
-        let (cyclic, value) = split(py, swept)?;
-        match value {
-            None => (cyclic, py.None(), py.None(), py.None()).into_pyobject(py),
-            Some((level, nodes, offsets)) => (
-                cyclic,
-                level.into_pyarray(py),
-                nodes.map(|v| v.into_pyarray(py)),
-                grouped.then(|| offsets.into_pyarray(py)),
-            )
-                .into_pyobject(py),
-        }
-    })
+) -> PyResult<Bound<'py, PyAny>> {
+    on_graph(py, indptr, indices, LevelsOf { threads, grouped })
 }
 
-/// `(cyclic, height)`: the longest path in edges from each node to a sink.
+struct HeightsOf {
+    threads: usize,
+}
+
+impl<'py> OnGraph<'py> for HeightsOf {
+    type Output = Bound<'py, PyAny>;
+    fn run<I: Index>(self, py: Python<'py>, indptr: &[I], indices: &[I]) -> PyResult<Self::Output> {
+        let threads = self.threads;
+        let swept = compute(py, || {
+            let csr = Csr::new(indptr, indices)?;
+            match level_sweep::level_order(&csr, threads)? {
+                Ok(order) => level_sweep::heights(&csr, &order, threads).map(Ok),
+                Err(outcome) => Ok(Err(outcome)),
+            }
+        })?;
+        match swept {
+            Ok(height) => Ok(array(py, height).into_bound(py)),
+            Err(outcome) => cyclic(py, outcome),
+        }
+    }
+}
+
+/// The longest path in edges from each node to a sink (an array), or a `Cyclic`.
 #[pyfunction]
 #[pyo3(signature = (indptr, indices, threads=1))]
 fn heights<'py>(
@@ -86,50 +104,57 @@ fn heights<'py>(
     indptr: &Bound<'py, PyAny>,
     indices: &Bound<'py, PyAny>,
     threads: usize,
-) -> PyResult<Bound<'py, PyTuple>> {
-    with_index_width!(indptr, indices, I => {
-        let (indptr, indices) = (slice(&indptr, "indptr")?, slice(&indices, "indices")?);
+) -> PyResult<Bound<'py, PyAny>> {
+    on_graph(py, indptr, indices, HeightsOf { threads })
+}
+
+/// The critical-path-method quantities of a DAG.
+#[pyclass(frozen, get_all, module = "toporank._core")]
+struct CriticalPath {
+    length: f64,
+    /// One longest path, first node first.
+    path: Py<PyAny>,
+    earliest_start: Py<PyAny>,
+    latest_start: Py<PyAny>,
+}
+
+struct CriticalPathOf<'a> {
+    node_weight: Weights<'a>,
+    edge_weight: Weights<'a>,
+    threads: usize,
+}
+
+impl<'py> OnGraph<'py> for CriticalPathOf<'_> {
+    type Output = Bound<'py, PyAny>;
+    fn run<I: Index>(self, py: Python<'py>, indptr: &[I], indices: &[I]) -> PyResult<Self::Output> {
         let swept = compute(py, || {
-            let csr = Csr::<I>::new(indptr, indices)?;
-            match level_sweep::level_order(&csr, threads)? {
-                Ok(order) => level_sweep::heights(&csr, &order, threads).map(Ok),
-                Err(cyclic) => Ok(Err(cyclic)),
-            }
-        })?
-        .map_err(|e| to_pyerr(py, e))?;
-        let (cyclic, value) = split(py, swept)?;
-        (cyclic, value.map(|h| h.into_pyarray(py))).into_pyobject(py)
-    })
-}
-
-fn read_weights<'py>(
-    weights: Option<&Bound<'py, PyAny>>,
-    name: &str,
-) -> PyResult<Option<PyReadonlyArray1<'py, f64>>> {
-    weights
-        .map(|w| {
-            w.cast::<PyArray1<f64>>()
-                .map(|a| a.readonly())
-                .map_err(|_| PyTypeError::new_err(format!("{name} must be a 1-D float64 array")))
+            let csr = Csr::new(indptr, indices)?;
+            critical::critical_path(&csr, self.node_weight, self.edge_weight, self.threads)
+        })?;
+        either(py, swept, |s| CriticalPath {
+            length: s.length,
+            path: array(py, s.path),
+            earliest_start: array(py, s.earliest_start),
+            latest_start: array(py, s.latest_start),
         })
-        .transpose()
+    }
 }
 
-fn as_weights<'a>(
-    array: &'a Option<PyReadonlyArray1<'_, f64>>,
-    name: &str,
-    default: f64,
-) -> PyResult<Weights<'a>> {
+const WEIGHT_DTYPE: &str = "float64";
+
+fn weights<'a>(array: &'a Option<Array<'_, f64>>, default: f64) -> PyResult<Weights<'a>> {
     Ok(match array {
-        Some(a) => Weights::Each(slice(a, name)?),
+        Some(a) => Weights::Each(a.values()?),
         None => Weights::Constant(default),
     })
 }
 
-/// `(cyclic, length, path, earliest_start, latest_start)`. Missing node
-/// weights are 0; missing edge weights are `default_edge_weight`.
+/// Critical path (a `CriticalPath`), or a `Cyclic`. Missing node weights
+/// are 0; missing edge weights are `default_edge_weight`.
 #[pyfunction]
-#[pyo3(signature = (indptr, indices, node_weight=None, edge_weight=None, default_edge_weight=1.0, threads=1))]
+#[pyo3(signature = (
+    indptr, indices, node_weight=None, edge_weight=None, default_edge_weight=1.0, threads=1
+))]
 fn critical_path<'py>(
     py: Python<'py>,
     indptr: &Bound<'py, PyAny>,
@@ -138,36 +163,96 @@ fn critical_path<'py>(
     edge_weight: Option<&Bound<'py, PyAny>>,
     default_edge_weight: f64,
     threads: usize,
-) -> PyResult<Bound<'py, PyTuple>> {
-    let node_weight = read_weights(node_weight, "node_weight")?;
-    let edge_weight = read_weights(edge_weight, "edge_weight")?;
-    let node_weight = as_weights(&node_weight, "node_weight", 0.0)?;
-    let edge_weight = as_weights(&edge_weight, "edge_weight", default_edge_weight)?;
-    with_index_width!(indptr, indices, I => {
-        let (indptr, indices) = (slice(&indptr, "indptr")?, slice(&indices, "indices")?);
-        let swept = compute(py, || {
-            let csr = Csr::<I>::new(indptr, indices)?;
-            critical::critical_path(&csr, node_weight, edge_weight, threads)
-        })?
-        .map_err(|e| to_pyerr(py, e))?;
-        let (cyclic, value) = split(py, swept)?;
-        match value {
-            None => (cyclic, py.None(), py.None(), py.None(), py.None()).into_pyobject(py),
-            Some(s) => (
-                cyclic,
-                s.length,
-                s.path.into_pyarray(py),
-                s.earliest_start.into_pyarray(py),
-                s.latest_start.into_pyarray(py),
-            )
-                .into_pyobject(py),
-        }
-    })
+) -> PyResult<Bound<'py, PyAny>> {
+    let node_weight = read_optional::<f64>(node_weight, "node_weight", WEIGHT_DTYPE)?;
+    let edge_weight = read_optional::<f64>(edge_weight, "edge_weight", WEIGHT_DTYPE)?;
+    let kernel = CriticalPathOf {
+        node_weight: weights(&node_weight, 0.0)?,
+        edge_weight: weights(&edge_weight, default_edge_weight)?,
+        threads,
+    };
+    on_graph(py, indptr, indices, kernel)
 }
 
-/// `(cyclic, from_sources, to_sinks, through_edge, total, exact, log)`;
-/// `exact` is `(from, to, through, total)` in uint64 or `None` on overflow,
-/// `log` the same in natural logs, only when the float total is infinite.
+/// Exact path counts (uint64), present when the total fits.
+#[pyclass(frozen, get_all, module = "toporank._core")]
+struct ExactCounts {
+    from_sources: Py<PyAny>,
+    to_sinks: Py<PyAny>,
+    through_edge: Py<PyAny>,
+    total: u64,
+}
+
+/// Natural logarithms of the path counts, present when the float total overflows.
+#[pyclass(frozen, get_all, module = "toporank._core")]
+struct LogCounts {
+    from_sources: Py<PyAny>,
+    to_sinks: Py<PyAny>,
+    through_edge: Py<PyAny>,
+    total: f64,
+}
+
+/// Path counts of a DAG (float64), per-edge values in stored edge order.
+#[pyclass(frozen, get_all, module = "toporank._core")]
+struct PathCounts {
+    from_sources: Py<PyAny>,
+    to_sinks: Py<PyAny>,
+    through_edge: Py<PyAny>,
+    total: f64,
+    exact: Option<Py<ExactCounts>>,
+    log: Option<Py<LogCounts>>,
+}
+
+struct PathCountsOf {
+    threads: usize,
+}
+
+impl<'py> OnGraph<'py> for PathCountsOf {
+    type Output = Bound<'py, PyAny>;
+    fn run<I: Index>(self, py: Python<'py>, indptr: &[I], indices: &[I]) -> PyResult<Self::Output> {
+        let threads = self.threads;
+        let swept = compute(py, || paths::path_counts(&Csr::new(indptr, indices)?, threads))?;
+        let counts = match swept {
+            Ok(counts) => counts,
+            Err(outcome) => return cyclic(py, outcome),
+        };
+        let exact = counts
+            .exact
+            .map(|e| {
+                let exact = ExactCounts {
+                    from_sources: array(py, e.from_sources),
+                    to_sinks: array(py, e.to_sinks),
+                    through_edge: array(py, e.through_edge),
+                    total: e.total,
+                };
+                Py::new(py, exact)
+            })
+            .transpose()?;
+        let log = counts
+            .log
+            .map(|l| {
+                let log = LogCounts {
+                    from_sources: array(py, l.from_sources),
+                    to_sinks: array(py, l.to_sinks),
+                    through_edge: array(py, l.through_edge),
+                    total: l.total,
+                };
+                Py::new(py, log)
+            })
+            .transpose()?;
+        let found = PathCounts {
+            from_sources: array(py, counts.from_sources),
+            to_sinks: array(py, counts.to_sinks),
+            through_edge: array(py, counts.through_edge),
+            total: counts.total,
+            exact,
+            log,
+        };
+        Ok(Bound::new(py, found)?.into_any())
+    }
+}
+
+/// Path counts (a `PathCounts`), or a `Cyclic`.
 #[pyfunction]
 #[pyo3(signature = (indptr, indices, threads=1))]
 fn path_counts<'py>(
@@ -175,49 +260,16 @@ fn path_counts<'py>(
     indptr: &Bound<'py, PyAny>,
     indices: &Bound<'py, PyAny>,
     threads: usize,
-) -> PyResult<Bound<'py, PyTuple>> {
-    with_index_width!(indptr, indices, I => {
-        let (indptr, indices) = (slice(&indptr, "indptr")?, slice(&indices, "indices")?);
-        let swept = compute(py, || {
-            let csr = Csr::<I>::new(indptr, indices)?;
-            paths::path_counts(&csr, threads)
-        })?
-        .map_err(|e| to_pyerr(py, e))?;
-        let (cyclic, value) = split(py, swept)?;
-        let Some(c) = value else {
-            let none = py.None();
-            return (cyclic, none.clone_ref(py), none.clone_ref(py), none.clone_ref(py), none.clone_ref(py), none.clone_ref(py), none).into_pyobject(py);
-        };
-        let exact = c.exact.map(|e| {
-            (
-                e.from_sources.into_pyarray(py),
-                e.to_sinks.into_pyarray(py),
-                e.through_edge.into_pyarray(py),
-                e.total,
-            )
-        });
-        let log = c.log.map(|l| {
-            (
-                l.from_sources.into_pyarray(py),
-                l.to_sinks.into_pyarray(py),
-                l.through_edge.into_pyarray(py),
-                l.total,
-            )
-        });
-        (
-            cyclic,
-            c.from_sources.into_pyarray(py),
-            c.to_sinks.into_pyarray(py),
-            c.through_edge.into_pyarray(py),
-            c.total,
-            exact,
-            log,
-        )
-            .into_pyobject(py)
-    })
+) -> PyResult<Bound<'py, PyAny>> {
+    on_graph(py, indptr, indices, PathCountsOf { threads })
 }
 
 pub(crate) fn register(m: &Bound<'_, PyModule>) -> PyResult<()> {
+    m.add_class::<Levels>()?;
+    m.add_class::<CriticalPath>()?;
+    m.add_class::<PathCounts>()?;
+    m.add_class::<ExactCounts>()?;
+    m.add_class::<LogCounts>()?;
     m.add_function(wrap_pyfunction!(levels, m)?)?;
     m.add_function(wrap_pyfunction!(heights, m)?)?;
     m.add_function(wrap_pyfunction!(critical_path, m)?)?;
