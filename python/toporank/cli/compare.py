@@ -78,7 +78,7 @@ def run(args: argparse.Namespace) -> int:
     if args.plot:
         if not args.plot.lower().endswith(".png"):
             raise GraphInputError(f"--plot {args.plot}: the plot is a PNG; name it *.png")
-        if importlib.util.find_spec("matplotlib") is None:
+        if not _has_matplotlib():
             raise Unavailable("--plot needs matplotlib (pip install 'toporank[plot]')")
     if args.descending and not args.key:
         raise GraphInputError("--descending applies to --key; give --key FILE too")
@@ -116,6 +116,13 @@ def run(args: argparse.Namespace) -> int:
         _plot(result, args.plot)
         note(args, f"wrote {args.plot}")
     return EXIT_OK
+
+
+def _has_matplotlib() -> bool:
+    try:
+        return importlib.util.find_spec("matplotlib") is not None
+    except (ImportError, ValueError):  # a broken or blocked install
+        return False
 
 
 def _plot(result: Any, path: str) -> None:

@@ -158,7 +158,7 @@ def _copy(
 def _long_line(shown: str, line: int, longest: int) -> GraphFileError:
     return GraphFileError(
         shown,
-        f"line {line} is longer than {longest} bytes; is this a text edge list? "
+        f"a line longer than {longest} bytes; is this a text file? "
         "(set TOPORANK_MAX_LINE_BYTES to allow longer lines)",
         line,
     )

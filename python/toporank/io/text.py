@@ -215,14 +215,16 @@ def _numeric_header(
     roles: tuple[str, ...],
     labels: bool | None,
 ) -> bool:
-    """A first line not numeric in a column that is numeric on every later line."""
+    """A first line not numeric in a column that is numeric on most later lines."""
     if len(rows) < 2:
         return False
     for column, role in zip(columns, roles, strict=True):
         if not isinstance(column, int) or (role == "node" and labels):
             continue
         check = _is_integer if role == "node" else _is_number
-        if not check(rows[0][2], column) and all(check(f, column) for _, _, f in rows[1:]):
+        # most later lines (not all: a bad value further down is reported at its own line)
+        later = sum(check(f, column) for _, _, f in rows[1:])
+        if not check(rows[0][2], column) and 2 * later > len(rows) - 1:
             return True
     return False
 
