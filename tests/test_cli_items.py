@@ -110,7 +110,7 @@ def test_help_states_the_header_default(capsys):
     with pytest.raises(SystemExit):
         main(["order", "--help"])
     out = " ".join(capsys.readouterr().out.split())
-    assert "--header" in out and "default: detected" in out
+    assert "the first line names the columns (default: detected" in out
 
 
 # 2. the README's verify example: see test_readme.py; the demo's build order is complete

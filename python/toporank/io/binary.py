@@ -23,9 +23,9 @@ def _row_words(message: str, columns: tuple[str, str] = ("column 0", "column 1")
 
     def word(match: re.Match[str]) -> str:
         column = columns[0] if match.group(1) == "src" else columns[1]
-        return f"row {match.group(2)}, {column},"
+        return f"row {match.group(2)}, {column}"
 
-    return _ENTRY.sub(word, message).replace(",,", ",")
+    return _ENTRY.sub(word, message)
 
 
 def read_matrix_market(path: str) -> Graph:
@@ -84,6 +84,8 @@ def read_npz(path: str) -> Graph:
                 )
             with archive.open("shape.npy") as f:
                 shape_array = np.load(f, allow_pickle=False)
+    except GraphFileError:
+        raise
     except (zipfile.BadZipFile, ValueError, OSError, EOFError) as exc:
         raise GraphFileError(path, f"is not a readable .npz archive ({_reason(exc)})") from None
     if shape_array.ndim != 1 or shape_array.dtype.kind not in "iu":

@@ -73,10 +73,10 @@ def atomic_output(path: str, binary: bool = False) -> Iterator[IO[Any]]:
     is removed, so ``path`` is either untouched or complete.
     """
     target = os.path.realpath(path)
-    mode = _existing_mode(target)
+    mode = _existing_mode(path)  # follows symlinks, /dev/stdout included
     try:
         if mode is not None and not stat.S_ISREG(mode):
-            with _stream(target, binary) as f:
+            with _stream(path, binary) as f:
                 yield f
             return
         with _replacing(target, binary, mode) as f:
@@ -121,18 +121,17 @@ def _replacing(target: str, binary: bool, mode: int | None) -> Iterator[IO[Any]]
 def check_writable(path: str, inputs: Sequence[str]) -> None:
     """Refuse, before any work, an output that would overwrite an input or cannot be written."""
     target = os.path.realpath(path)
+    mode = _existing_mode(path)
     for source in inputs:
         if source != "-" and os.path.realpath(source) == target:
-            mode = _existing_mode(target)
             if mode is None or stat.S_ISREG(mode):
                 raise GraphInputError(
                     f"output {path} is the input file {source}; refusing to overwrite it"
                 )
-    mode = _existing_mode(target)
     if mode is not None and stat.S_ISDIR(mode):
         raise GraphInputError(f"cannot write {path}: it is a folder")
     if mode is not None and not stat.S_ISREG(mode):
-        if not os.access(target, os.W_OK):
+        if not os.access(path, os.W_OK):
             raise GraphInputError(f"cannot write {path}: permission denied")
         return
     folder = os.path.dirname(target)
