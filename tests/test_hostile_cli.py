@@ -172,24 +172,40 @@ def test_output_through_a_symlink_keeps_the_link_and_the_mode(tmp_path):
     assert stat.S_IMODE(os.stat(target).st_mode) == 0o640
 
 
-def test_output_to_dev_stdout_is_a_stream(tmp_path):
+def _private_full_device(folder):
+    """A node of the /dev/full device in ``folder``, so a regression clobbers only it."""
+    path = folder / "full"
+    try:
+        os.mknod(path, 0o666 | stat.S_IFCHR, os.makedev(1, 7))
+    except (PermissionError, AttributeError, OSError):
+        pytest.skip("cannot make a device node here (needs root on Linux)")
+    return path
+
+
+def test_output_to_a_link_to_stdout_is_a_stream(tmp_path):
+    # a private link like /dev/stdout (-> /proc/self/fd/1), so a regression replaces only it
+    if not os.path.isdir("/proc/self/fd"):
+        pytest.skip("needs /proc")
     graph = tmp_path / "e.tsv"
     graph.write_text(EDGES)
-    result = _script("order", graph, "-o", "/dev/stdout", "-q", timeout=30)
+    link = tmp_path / "stdout"
+    os.symlink("/proc/self/fd/1", link)
+    result = _script("order", graph, "-o", link, "-q", timeout=30)
     assert result.returncode == 0, result.stderr
     assert result.stdout.split() == ["0", "1", "2"]
-    assert stat.S_ISCHR(os.stat("/dev/null").st_mode)
+    assert os.readlink(link) == "/proc/self/fd/1"
+    assert sorted(os.listdir(tmp_path)) == ["e.tsv", "stdout"]
 
 
-def test_dev_full_reports_no_space_left(tmp_path):
-    if not os.path.exists("/dev/full"):
-        pytest.skip("needs /dev/full")
+def test_full_device_reports_no_space_left(tmp_path):
+    full = _private_full_device(tmp_path)
     graph = tmp_path / "e.tsv"
     graph.write_text(EDGES)
-    result = _script("order", graph, "-o", "/dev/full", timeout=30)
+    result = _script("order", graph, "-o", full, timeout=30)
     assert result.returncode == 2
-    _one_line_error(result.stderr, "cannot write /dev/full: no space left")
-    assert stat.S_ISCHR(os.stat("/dev/full").st_mode)
+    _one_line_error(result.stderr, f"cannot write {full}: no space left")
+    assert stat.S_ISCHR(os.stat(full).st_mode)  # still the device, not a regular file
+    assert sorted(os.listdir(tmp_path)) == ["e.tsv", "full"]
 
 
 # 9. messages and exception types -------------------------------------------------

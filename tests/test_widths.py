@@ -73,6 +73,7 @@ NOT_GRAPH_FUNCTIONS = {
     "PathCounts",
     "Condensation",
     "CycleCut",
+    "ReadOptions",
 }
 
 

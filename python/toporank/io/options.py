@@ -60,6 +60,16 @@ class ReadOptions:
     spool_limit_bytes : int
         Most bytes copied from a pipe or device for a second pass
         (``TOPORANK_SPOOL_LIMIT``, default 64 GiB).
+
+    Examples
+    --------
+    >>> import os, tempfile, toporank
+    >>> path = os.path.join(tempfile.mkdtemp(), "modules.csv")
+    >>> with open(path, "w") as f:
+    ...     _ = f.write("module;needs\\ncore;app\\nlog;core\\n")
+    >>> options = toporank.ReadOptions(delimiter=";", columns=("needs", "module"))
+    >>> toporank.order(toporank.read_graph(path, options))
+    array(['app', 'core', 'log'], dtype=object)
     """
 
     format: str | None = None
