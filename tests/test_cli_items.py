@@ -319,6 +319,17 @@ def test_order_files_empty_or_with_a_header(tmp_path, capsys):
     assert status == 0 and out.startswith("ok:"), err
 
 
+def test_extra_columns_and_ragged_rows_are_noted(tmp_path, capsys):
+    weighted = _write(tmp_path / "w.tsv", "a\tb\t0.5\nb\tc\t0.7\n")
+    status, out, err = _run(capsys, "order", weighted)
+    assert status == 0 and out.split() == ["a", "b", "c"]
+    assert f"{weighted}: 3 columns; reading columns 0 and 1, the others are ignored" in err
+    ragged = _write(tmp_path / "r.tsv", "0\t1\n1\t2\t7\n2\t3\n")
+    status, out, err = _run(capsys, "order", ragged)
+    assert status == 0 and out.split() == ["0", "1", "2", "3"]
+    assert f"{ragged}:2: 1 line(s) have a different number of fields than line 1" in err
+
+
 # 9. np.savez archives -------------------------------------------------------------
 
 

@@ -364,3 +364,10 @@ def test_duplicate_nodes_in_a_key_file_are_refused(tmp_path, capsys):
     status = main(["order", str(graph), "--tie", "priority", "--key", str(key)])
     assert status == 2
     _one_line_error(capsys.readouterr().err, f"{key}: gives node 'a' 2 values")
+
+
+def test_duplicate_labels_in_an_npz_are_refused(tmp_path):
+    path = tmp_path / "g.npz"
+    np.savez(path, src=np.array([0]), dst=np.array([1]), labels=np.array(["a", "a"]))
+    with pytest.raises(toporank.GraphFileError, match="its labels name 'a' twice"):
+        toporank.read_graph(path)

@@ -148,6 +148,10 @@ def _read_edge_arrays(path: str, archive: zipfile.ZipFile) -> Graph:
         if labels.ndim != 1:
             raise GraphFileError(path, f"its labels array is {labels.ndim}-D; one name per node")
         labels = labels.astype(object)
+        if len(set(labels.tolist())) != len(labels):
+            seen: set[object] = set()
+            twice = next(x for x in labels.tolist() if x in seen or seen.add(x))
+            raise GraphFileError(path, f"its labels name {twice!r} twice; one name per node")
     try:
         return build_graph([EdgeBatch(src, dst)], labels=labels, n=n)
     except GraphInputError as exc:

@@ -200,6 +200,12 @@ def _sniff(path: str, shown: str, options: ReadOptions, roles: tuple[str, ...]) 
     for number, line, fields in data:
         if len(fields) <= max(positions):
             raise _missing_column(shown, number, line, fields, max(positions))
+    width = len(data[0][2])
+    if options.note is not None and width > len(positions) and not named:
+        options.note(
+            f"{shown}: {width} columns; reading columns {' and '.join(map(str, positions))}, "
+            "the others are ignored (choose with --columns)"
+        )
     kinds = tuple(
         _kind(role, labels, data, position) for role, position in zip(roles, positions, strict=True)
     )
@@ -412,14 +418,23 @@ def _read_careful(path: str, shown: str, layout: _Layout, options: ReadOptions) 
     collected: list[list[Any]] = [[] for _ in layout.columns]
     needed = max(layout.columns)
     skipped_line = _skipper(options.comment)
+    ragged, first_ragged = 0, 0
     for number, line in read_lines(path, shown, options):
         if number < layout.first_line or skipped_line(line):
             continue
         fields = _split(line, layout.delimiter)
         if len(fields) <= needed:
             raise _missing_column(shown, number, line, fields, needed)
+        if len(fields) != layout.width:
+            ragged += 1
+            first_ragged = first_ragged or number
         for k, (column, kind) in enumerate(zip(layout.columns, layout.kinds, strict=True)):
             collected[k].append(_field(shown, number, line, fields[column], kind, options))
+    if ragged and options.note is not None:
+        options.note(
+            f"{shown}:{first_ragged}: {ragged} line(s) have a different number of fields than "
+            f"line {layout.first_line} ({layout.width}); only the chosen columns are read"
+        )
     values: list[Any] = []
     for kind, items in zip(layout.kinds, collected, strict=True):
         if kind == "label":
