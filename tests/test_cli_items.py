@@ -435,3 +435,46 @@ def test_gzip_input_with_header(tmp_path):
         f.write("source\ttarget\n0\t1\n1\t2\n")
     g = toporank.read_graph(path)
     assert (g.n, g.m) == (3, 2)
+
+
+# 15. the plot ----------------------------------------------------------------------
+
+
+def _drawn(monkeypatch):
+    pytest.importorskip("matplotlib")
+    from matplotlib.figure import Figure
+
+    figures = []
+    original = Figure.savefig
+
+    def keep(self, *args, **kwargs):
+        figures.append(self)
+        return original(self, *args, **kwargs)
+
+    monkeypatch.setattr(Figure, "savefig", keep)
+    return figures
+
+
+def test_plot_axes_are_labelled_and_name_the_input(tmp_path, capsys, monkeypatch):
+    figures = _drawn(monkeypatch)
+    # an invented wide fan: the policies' peaks differ, so bars and limits can be checked
+    pairs = [(0, k) for k in range(1, 40)] + [(k, k + 40) for k in range(1, 40)]
+    path = _write(tmp_path / "fan.tsv", "".join(f"{u}\t{v}\n" for u, v in pairs))
+    status, _, err = _run(
+        capsys, "compare", path, "--plot", tmp_path / "p.png", "--plot-scale", "log"
+    )
+    assert status == 0, err
+    (figure,) = figures
+    axes = [ax for ax in figure.get_axes() if ax.get_visible()]
+    curves, bars = axes[0], axes[1:]
+    assert "fan.tsv" in curves.get_title()
+    assert curves.get_yscale() == "log"
+    assert "per bin" not in curves.get_ylabel() and curves.get_ylabel()
+    assert len(bars) == 3  # no --workers: no empty fourth panel
+    for ax in bars:
+        assert ax.get_ylabel(), ax.get_title()  # every panel says what its bars count
+        heights = [p.get_height() for p in ax.patches]
+        bottom, top = ax.get_ylim()
+        if max(heights) > min(heights):
+            # the spread between bars fills at least half the panel: small differences show
+            assert (max(heights) - min(heights)) / (top - bottom) >= 0.5, ax.get_title()

@@ -40,6 +40,13 @@ def register(commands: Any, common: list[argparse.ArgumentParser]) -> None:
     p.add_argument("--descending", action="store_true", help="larger keys first (with --key)")
     p.add_argument("--workers", type=int, metavar="N", help="also schedule each order on N workers")
     p.add_argument("--plot", metavar="PNG", help="also draw the comparison here (needs matplotlib)")
+    p.add_argument(
+        "--plot-scale",
+        choices=("auto", "linear", "log"),
+        default="auto",
+        help="y scale of the plot's ready-set curves (default auto: log when peaks differ "
+        "more than 50-fold)",
+    )
     p.set_defaults(run=run)
 
 
@@ -113,7 +120,7 @@ def run(args: argparse.Namespace) -> int:
     else:
         say(text.rstrip("\n"))
     if args.plot:
-        _plot(result, args.plot)
+        _plot(result, args.plot, args.file, args.plot_scale)
         note(args, f"wrote {args.plot}")
     return EXIT_OK
 
@@ -125,12 +132,13 @@ def _has_matplotlib() -> bool:
         return False
 
 
-def _plot(result: Any, path: str) -> None:
+def _plot(result: Any, path: str, source: str, scale: str) -> None:
     root, ending = os.path.splitext(path)
     temporary = f"{root}.partial{os.getpid()}{ending}"
     try:
         try:
-            result.plot(temporary)
+            log = {"auto": None, "log": True, "linear": False}[scale]
+            result.plot(temporary, source=os.path.basename(source), log=log)
         except ImportError as exc:
             raise Unavailable(f"--plot: {exc}") from None
         os.replace(temporary, path)
