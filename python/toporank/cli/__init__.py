@@ -64,7 +64,7 @@ def parser() -> argparse.ArgumentParser:
 def main(argv: Sequence[str] | None = None) -> int:
     """Return the exit status of the ``toporank`` command run with ``argv`` (default: sys.argv)."""
     args = parser().parse_args(argv)
-    if getattr(args, "output", None) == "-":
+    if getattr(args, "output", None) == "-" and args.command != "demo":
         args.output = None  # "-o -" is standard output, as "-" is standard input
     try:
         return int(args.run(args))

@@ -149,8 +149,8 @@ def _read_edge_arrays(path: str, archive: zipfile.ZipFile) -> Graph:
             raise GraphFileError(path, f"its labels array is {labels.ndim}-D; one name per node")
         labels = labels.astype(object)
         if len(set(labels.tolist())) != len(labels):
-            seen: set[object] = set()
-            twice = next(x for x in labels.tolist() if x in seen or seen.add(x))
+            values, counts = np.unique(labels.astype(str), return_counts=True)
+            twice = str(values[counts > 1][0])
             raise GraphFileError(path, f"its labels name {twice!r} twice; one name per node")
     try:
         return build_graph([EdgeBatch(src, dst)], labels=labels, n=n)
