@@ -87,6 +87,14 @@ def test_labelled_csv_header_of_plain_words_is_detected_with_a_note(demo, capsys
     assert g.n == len(MONOREPO) + 2 and g.m == len(monorepo()) + 1
 
 
+def test_labels_with_digits_never_make_a_header(tmp_path):
+    # invented node names like "n236594": a first edge whose nodes never recur is still an edge
+    rows = [(f"n{k}", f"n{k + 1000}") for k in range(3000)]
+    path = _write(tmp_path / "e.tsv", "".join(f"{u}\t{v}\n" for u, v in rows))
+    g = toporank.read_graph(path)
+    assert (g.n, g.m) == (len({x for r in rows for x in r}), len(rows))
+
+
 def test_header_above_integer_ids_and_numeric_labels(tmp_path):
     path = _write(tmp_path / "e.tsv", "source\ttarget\n10\t20\n20\t30\n")
     g = toporank.read_graph(path)

@@ -78,7 +78,7 @@ def read_graph(
         ``None`` (the default) detects one: a first line whose fields are
         not integers while the lines after it are, or whose fields are
         named in ``columns``, or, in a file of labels, a first line of two
-        plain words (letters, digits, ``_``) that never occur again as nodes.
+        plain words (letters and ``_``, no digits) that never occur again as nodes.
     columns
         For text: the source and target columns, as 0-based positions or as
         header names (names imply ``header=True``). Other columns are ignored.

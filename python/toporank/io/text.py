@@ -30,7 +30,7 @@ __all__ = ["Table", "read_text_columns", "read_text_edges"]
 _SNIFF_LINES = 200
 _HEADER_LINES = 2000  # lines searched for a labelled header's words reappearing as nodes
 _INTEGER = re.compile(r"[+-]?[0-9]+\Z")
-_WORD = re.compile(r"[A-Za-z_][A-Za-z0-9_ ]*\Z")
+_WORD = re.compile(r"[A-Za-z_][A-Za-z_ ]*\Z")  # no digits: "n17" is more likely a node
 
 
 @dataclass
