@@ -33,7 +33,7 @@ def test_cycles_report_matches_networkx(tmp_path, capsys):
     path = _tsv(tmp_path / "deps.tsv", PAIRS)
     status = main(["cycles", path, "--json", str(tmp_path / "report.json")])
     out, err = capsys.readouterr()
-    assert status == 0, err
+    assert status == 1, err  # 1: cycles found
     report = json.loads((tmp_path / "report.json").read_text())
     d = nx.DiGraph(PAIRS)
     cyclic = [s for s in nx.strongly_connected_components(d) if len(s) > 1 or d.has_edge(*[*s] * 2)]
@@ -51,7 +51,7 @@ def test_cut_edges_leave_a_dag(tmp_path, capsys):
     path = _tsv(tmp_path / "deps.tsv", PAIRS)
     status = main(["cycles", path, "--cut", "-o", str(tmp_path / "cut.csv")])
     _, err = capsys.readouterr()
-    assert status == 0, err
+    assert status == 1, err  # 1: cycles found
     lines = (tmp_path / "cut.csv").read_text().splitlines()
     assert lines[0].startswith("source,target")
     cut = {tuple(line.split(",")[:2]) for line in lines[1:]}

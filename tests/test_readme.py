@@ -61,3 +61,45 @@ def _normal(value):
     if isinstance(value, list):
         return [_normal(v) for v in value]
     return value
+
+
+SHELL = re.search(r"## From the shell\n.*?```bash\n(.*?)```", README.read_text(), flags=re.S)
+
+
+def _shell_commands() -> list[str]:
+    assert SHELL is not None
+    joined = SHELL.group(1).replace("\\\n", " ")
+    return [line for line in joined.splitlines() if line.strip() and not line.startswith("#")]
+
+
+def test_readme_shell_commands_run_as_written_on_the_demo_folder(tmp_path):
+    """Every command of "From the shell", in order, in a fresh folder; the demo comes first."""
+    import os
+    import shutil
+    import subprocess
+    import sys
+
+    pytest.importorskip("matplotlib")
+    commands = _shell_commands()
+    assert commands[0].startswith("toporank demo") and len(commands) >= 7
+    bin_folder = os.path.dirname(sys.executable)
+    assert shutil.which("toporank", path=bin_folder), "the console script is installed"
+    environment = {**os.environ, "PATH": bin_folder + os.pathsep + os.environ.get("PATH", "")}
+    for command in commands:
+        # a trailing "# exit N" comment states the documented exit status (common practice)
+        expected = int(m.group(1)) if (m := re.search(r"# exit (\d)", command)) else 0
+        result = subprocess.run(
+            ["bash", "-c", command],
+            cwd=tmp_path,
+            env=environment,
+            capture_output=True,
+            text=True,
+            timeout=300,
+        )
+        assert result.returncode == expected, (command, result.stderr)
+        assert "Traceback" not in result.stderr
+    # everything the commands wrote went into the demo folder, none into the working folder
+    assert sorted(os.listdir(tmp_path)) == ["toporank-demo"]
+    demo = tmp_path / "toporank-demo"
+    for name in ("order.csv", "summary.json", "levels.csv", "policies.csv", "policies.png"):
+        assert (demo / name).stat().st_size > 0, name

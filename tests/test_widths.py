@@ -94,6 +94,7 @@ NOT_GRAPH_FUNCTIONS = {
     "PathCounts",
     "Condensation",
     "CycleCut",
+    "ReadOptions",
 }
 
 

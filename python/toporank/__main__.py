@@ -1,8 +1,8 @@
-"""``python -m toporank``: the same as the ``toporank`` command."""
+"""``python -m toporank``: the ``toporank`` command."""
 
 import sys
 
 from .cli import main
 
-if __name__ == "__main__":  # not when a doctest run imports every module
+if __name__ == "__main__":
     sys.exit(main())

@@ -55,11 +55,11 @@ _COLUMNS: tuple[tuple[str, str, Callable[[Any], str], str], ...] = (
     ("makespan_ratio", "/ bound", lambda v: f"{v:.3f}", "min"),
 )
 # The measures drawn as bar charts, one panel each.
-_BARS = (
-    ("ready_peak", "ready peak"),
-    ("live_peak", "live peak"),
-    ("span_mean", "span mean"),
-    ("makespan", "makespan"),
+_BARS = (  # (record field, panel title, y-axis label with its unit)
+    ("ready_peak", "ready peak", "nodes ready at once"),
+    ("live_peak", "live peak", "nodes kept in memory"),
+    ("span_mean", "span mean", "positions between edge ends"),
+    ("makespan", "makespan", "time (sum of node weights)"),
 )
 
 
@@ -202,6 +202,7 @@ class Comparison:
         points: int = 2000,
         log: bool | None = None,
         dpi: int = 120,
+        source: str | None = None,
     ) -> Path:
         """Draw the comparison to a PNG file and return its path.
 
@@ -211,6 +212,9 @@ class Comparison:
         (ready peak, live peak, mean span, and makespan when scheduled),
         the best policy labelled. ``log`` puts the left plot on a log
         scale; by default it does when the peaks differ more than 50-fold.
+        Bars start near the smallest value, not at 0, so that small
+        differences show; each bar is labelled with its value. ``source``
+        (e.g. the input file's name) is named in the title.
         Needs matplotlib (``pip install 'toporank[plot]'``); draws with the
         Agg canvas, so no display is needed and pyplot's state is untouched.
         """
@@ -239,21 +243,27 @@ class Comparison:
         if log:
             left.set_yscale("log")
         left.set_xlabel("share of steps done")
-        left.set_ylabel("ready-set size (largest per bin)")
-        left.set_title(f"Ready set over the run ({self.n} nodes, {self.m} edges)")
+        left.set_ylabel("nodes ready at once (peak within each stretch of the run)")
+        named = f"{source}: " if source else ""
+        left.set_title(f"{named}ready set over the run ({self.n} nodes, {self.m} edges)")
         left.legend(title="policy")
         left.grid(alpha=0.3)
 
         rows = self.records()
-        bars = [(name, title) for name, title in _BARS if rows and name in rows[0]]
+        bars = [(name, title, unit) for name, title, unit in _BARS if rows and name in rows[0]]
         axes = panels.subplots(2, 2).ravel()
-        for ax, (name, title) in zip(axes, bars, strict=False):
+        for ax, (name, title, unit) in zip(axes, bars, strict=False):
             values = [float(row[name]) for row in rows]
             ax.bar(range(len(rows)), values, color=colors)
+            ax.set_ylabel(unit, fontsize=8)
+            low, high = min(values), max(values)
+            if high > low:
+                # start near the smallest bar: from 0, close values look equal
+                ax.set_ylim(max(0.0, low - 0.25 * (high - low)), high + 0.25 * (high - low))
             best = min(values)
             for k, value in enumerate(values):
-                if value == best:
-                    ax.annotate("best", (k, value), ha="center", va="bottom", fontsize=8)
+                text = f"{value:.4g}" + (" best" if value == best else "")
+                ax.annotate(text, (k, value), ha="center", va="bottom", fontsize=7)
             ax.set_xticks(range(len(rows)), list(self.ties), rotation=30, fontsize=8)
             if name == "makespan" and self.workers is not None:
                 title += f" ({self.workers} workers)"

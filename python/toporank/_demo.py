@@ -14,7 +14,6 @@ writers as the ``toporank`` command on those files.
 
 from __future__ import annotations
 
-import argparse
 import os
 import time
 from typing import Any
@@ -23,7 +22,16 @@ import numpy as np
 
 import toporank
 
-from ._io import atomic_output, node_strings, read_graph, read_key
+from ._report import (
+    cut_report,
+    cycle_report,
+    named,
+    order_with_report,
+    shown_cycle,
+    without_edges,
+)
+from .io import atomic_output, read_graph, read_key, write_json
+from .io.write import node_strings
 
 JOURNAL = "Journal of Imaginary Results"
 FIRST_YEAR, LAST_YEAR, ISSUES, PAPERS_PER_ISSUE = 1990, 2024, 4, 22
@@ -96,9 +104,7 @@ def monorepo() -> list[tuple[str, str]]:
 
 def _loops(g: toporank.Graph) -> list[list[object]]:
     """One witness cycle per strongly connected component with a cycle."""
-    from .cli import _components_report
-
-    report = _components_report(g, with_witnesses=True)
+    report = cycle_report(g, witnesses=True)
     return [item["cycle"] for item in report["components"]]
 
 
@@ -115,10 +121,36 @@ def _write_csv(path: str, header: tuple[str, str], rows: Any) -> None:
         f.writelines(f"{a},{b}\n" for a, b in rows)
 
 
+def built_sources(g: toporank.Graph) -> np.ndarray:
+    """The source node of each stored edge (CSR row ids)."""
+    return np.repeat(np.arange(g.n), np.diff(g.indptr))
+
+
+def shell_commands(out: str) -> list[str]:
+    """Commands to try on the demo's files in ``out`` (all run as written; README lists them)."""
+    d = out.rstrip("/")
+    try:
+        import matplotlib  # noqa: F401
+
+        plot = f" --plot {d}/policies.png"
+    except ImportError:
+        plot = ""
+    return [
+        f"toporank order {d}/monorepo-imports.csv --columns imports,module --on-cycle partial",
+        f"toporank order {d}/journal-citations.tsv --columns cited,citing --tie priority "
+        f"--key {d}/journal-years.tsv --on-cycle condense -o {d}/order.csv "
+        f"--summary {d}/summary.json",
+        f"toporank cycles {d}/monorepo-imports.csv --columns imports,module --cut",
+        f"toporank verify {d}/monorepo-imports-cut.csv --columns imports,module "
+        f"{d}/monorepo-build-order.txt",
+        f"toporank levels {d}/monorepo-imports-cut.csv --columns imports,module",
+        f"toporank compare {d}/journal-citations.tsv --columns cited,citing --key "
+        f"{d}/journal-years.tsv --workers 4 --on-cycle cut{plot}",
+    ]
+
+
 def run(out: str, *, progress: bool = True) -> int:
     """Write the invented data into ``out``, order them, print a report; return the exit status."""
-    from .cli import _cut_report, _cycle, ordered, write_json
-
     started = time.perf_counter()
     os.makedirs(out, exist_ok=True)
     citations, years = journal()
@@ -128,6 +160,7 @@ def run(out: str, *, progress: bool = True) -> int:
         "imports": os.path.join(out, "monorepo-imports.csv"),
         "journal_order": os.path.join(out, "journal-order.csv"),
         "journal_summary": os.path.join(out, "journal-summary.json"),
+        "imports_cut": os.path.join(out, "monorepo-imports-cut.csv"),
         "build_order": os.path.join(out, "monorepo-build-order.txt"),
         "monorepo_summary": os.path.join(out, "monorepo-summary.json"),
     }
@@ -148,8 +181,7 @@ def run(out: str, *, progress: bool = True) -> int:
     journal_on_cycle = "condense"
     g = read_graph(paths["citations"], columns=("cited", "citing"), progress=progress)
     key = read_key(paths["years"], g)
-    options = argparse.Namespace(tie="priority", descending=False, seed=None)
-    ids, report = ordered(g, options, key, journal_on_cycle)
+    ids, report = order_with_report(g, journal_on_cycle, tie="priority", key=key)
     if ids is None:  # not reached: condense always gives an order
         raise RuntimeError("the demo's journal could not be ordered")
     names = node_strings(g, ids)
@@ -177,18 +209,24 @@ def run(out: str, *, progress: bool = True) -> int:
         if loops:
             print(f"  not a DAG: {len(loops)} citation loops among papers of one issue:")
             for loop in loops:
-                print(f"    {_cycle(loop)}")
+                print(f"    {shown_cycle(loop)}")
         else:
-            print(f"  not a DAG: citation loop {_cycle(report['witness_cycle'])}")
+            print(f"  not a DAG: citation loop {shown_cycle(report['witness_cycle'])}")
         print(f"  all {len(ids)} papers ordered, each loop kept together (--on-cycle condense)")
     first = ", ".join(f"{p} ({years[p]})" for p in names[:4])
     print(f"  reading order, oldest first (--tie priority by year): {first}, ...")
 
     edges = monorepo()
     m = read_graph(paths["imports"], columns=("imports", "module"), progress=progress)
-    build = argparse.Namespace(tie="queue", descending=False, seed=None)
-    build_ids, build_report = ordered(m, build, None, "partial")
-    if build_ids is None:  # not reached: partial always gives an order
+    cut = cut_report(m)
+    built = without_edges(m, cut["edge"])
+    _write_csv(
+        paths["imports_cut"],
+        ("module", "imports"),
+        [(v, u) for u, v in zip(named(built, built_sources(built)), named(built, built.indices))],
+    )
+    build_ids, build_report = order_with_report(m, "cut", tie="queue")
+    if build_ids is None:  # not reached: cut always gives an order
         raise RuntimeError("the demo's monorepo could not be ordered")
     build_order = node_strings(m, build_ids)
     with atomic_output(paths["build_order"]) as f:
@@ -199,42 +237,27 @@ def run(out: str, *, progress: bool = True) -> int:
             "input": paths["imports"],
             "nodes": m.n,
             "edges": m.m,
-            "on_cycle": "partial",
+            "on_cycle": "cut",
             "ordered": len(build_ids),
+            "cut": cut,
             "cycles": build_report,
         },
     )
     print(f"\norbit monorepo (invented): {m.n} modules, {len(edges)} imports")
     if not build_report["is_dag"]:
-        print(f"  import cycle: {_cycle(build_report['witness_cycle'])}")
-        print(
-            f"  {len(build_ids)} modules can be built before it: {', '.join(build_order[:5])}, ..."
-        )
-        cut = _cut_report(m)
+        print(f"  import cycle: {shown_cycle(build_report['witness_cycle'])}")
         removed = ", ".join(
             f"{u} -> {v}" for u, v in zip(cut["source"], cut["target"], strict=True)
         )
-        print(f"  removing {removed} breaks the cycle (--on-cycle cut)")
+        print(f"  removing {removed} breaks the cycle (--on-cycle cut); imports left in")
+        print(f"    {paths['imports_cut']}")
+    print(f"  build order of all {len(build_ids)} modules: {', '.join(build_order[:5])}, ...")
 
     print("\nwritten:")
     for path in paths.values():
         print(f"  {path}")
     print("\nnext, from the shell:")
-    print(
-        f"  toporank order {paths['citations']} --columns cited,citing --tie priority "
-        f"--key {paths['years']} --on-cycle {journal_on_cycle} -o order.csv --summary summary.json"
-    )
-    print(f"  toporank order {paths['imports']} --columns imports,module --on-cycle cut")
-    print(f"  toporank cycles {paths['imports']} --columns imports,module --cut")
-    try:
-        import matplotlib  # noqa: F401
-
-        plot = " --plot policies.png"
-    except ImportError:
-        plot = "  (add --plot policies.png after pip install 'toporank[plot]')"
-    print(
-        f"  toporank compare {paths['citations']} --columns cited,citing --key {paths['years']} "
-        f"--workers 4 --on-cycle cut{plot}"
-    )
+    for command in shell_commands(out):
+        print(f"  {command}")
     print(f"\ndone in {time.perf_counter() - started:.2f} s")
     return 0

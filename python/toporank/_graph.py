@@ -58,6 +58,10 @@ class Graph:
     # input positions can be recomputed on demand.
     _edges: tuple[np.ndarray, np.ndarray] | None = field(default=None, repr=False)
 
+    def __repr__(self) -> str:
+        kind = "labelled" if self.labels is not None else "ids"
+        return f"Graph(n={self.n}, m={self.m}, {kind}, {self.indices.dtype})"
+
     @property
     def n(self) -> int:
         """Number of nodes."""

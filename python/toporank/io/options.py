@@ -1,0 +1,104 @@
+"""The options every graph reader takes, gathered in one small object."""
+
+from __future__ import annotations
+
+import os
+from collections.abc import Callable, Sequence
+from dataclasses import dataclass, field
+
+from .._errors import GraphInputError
+
+__all__ = ["DELIMITERS", "FILE_FORMATS", "ReadOptions", "file_format"]
+
+FILE_FORMATS = ("text", "mtx", "npz", "npy")
+DELIMITERS = {"tab": "\t", "\\t": "\t", "comma": ",", "space": " ", "whitespace": None}
+
+#: longest line a text reader accepts (bytes); longer lines are refused, naming the line
+MAX_LINE_BYTES = 1 << 20
+#: most bytes spooled from a pipe, FIFO or device to a temporary file for a second pass
+SPOOL_LIMIT_BYTES = 64 << 30
+
+
+def _env_bytes(name: str, default: int) -> int:
+    text = os.environ.get(name)
+    if text is None:
+        return default
+    try:
+        value = int(text)
+    except ValueError:
+        raise GraphInputError(f"{name} must be a whole number of bytes, got {text!r}") from None
+    if value <= 0:
+        raise GraphInputError(f"{name} must be > 0, got {value}")
+    return value
+
+
+@dataclass(frozen=True)
+class ReadOptions:
+    """How to read a graph file; every field has the default ``read_graph`` documents.
+
+    Attributes
+    ----------
+    format : {"text", "mtx", "npz", "npy"} or None
+        None picks by the file name's ending.
+    delimiter : str or None
+        Text only: one character, a word of ``DELIMITERS``, or None to detect.
+    header : bool or None
+        Text only: the first line names the columns; None detects.
+    columns : sequence of int or str
+        Text only: source and target columns (0-based positions or header names).
+    labels : bool or None
+        Text only: nodes are string labels (True), integer ids (False), or detect (None).
+    comment : str
+        Text only: lines starting with this are skipped.
+    progress : bool
+        Show a progress bar on a terminal for long reads.
+    note : callable or None
+        Called with a one-line message when the reader guesses (a first line
+        taken as a header); None says nothing.
+    max_line_bytes : int
+        Longest line accepted (``TOPORANK_MAX_LINE_BYTES``, default 1 MiB).
+    spool_limit_bytes : int
+        Most bytes copied from a pipe or device for a second pass
+        (``TOPORANK_SPOOL_LIMIT``, default 64 GiB).
+
+    Examples
+    --------
+    >>> import os, tempfile, toporank
+    >>> path = os.path.join(tempfile.mkdtemp(), "modules.csv")
+    >>> with open(path, "w") as f:
+    ...     _ = f.write("module;needs\\ncore;app\\nlog;core\\n")
+    >>> options = toporank.ReadOptions(delimiter=";", columns=("needs", "module"))
+    >>> toporank.order(toporank.read_graph(path, options))
+    array(['app', 'core', 'log'], dtype=object)
+    """
+
+    format: str | None = None
+    delimiter: str | None = None
+    header: bool | None = None
+    columns: Sequence[int | str] = (0, 1)
+    labels: bool | None = None
+    comment: str = "#"
+    progress: bool = False
+    note: Callable[[str], None] | None = None
+    max_line_bytes: int = field(
+        default_factory=lambda: _env_bytes("TOPORANK_MAX_LINE_BYTES", MAX_LINE_BYTES)
+    )
+    spool_limit_bytes: int = field(
+        default_factory=lambda: _env_bytes("TOPORANK_SPOOL_LIMIT", SPOOL_LIMIT_BYTES)
+    )
+
+
+def file_format(name: str, format: str | None) -> str:
+    """The format to read ``name`` as: ``format`` if given, else from the file name's ending."""
+    if format is not None:
+        if format not in FILE_FORMATS:
+            raise GraphInputError(f"format must be one of {FILE_FORMATS}, got {format!r}")
+        return format
+    lower = name.lower().removesuffix(".gz")
+    if lower.endswith((".mtx", ".mm")):
+        return "mtx"
+    if lower.endswith(".npz"):
+        return "npz"
+    if lower.endswith(".npy"):
+        return "npy"
+    return "text"
