@@ -3,9 +3,10 @@
 //! 1. Strongly connected components; edges between components never lie on
 //!    a cycle and are kept. Every self-loop is cut.
 //! 2. Inside the components of two or more nodes, a greedy node sequence;
-//!    edges pointing backwards in it are cut. Two sequences are built in
-//!    linear time with the same bin formulation and the one with fewer
-//!    backward edges is kept (the Eades–Lin–Smyth one on a tie):
+//!    edges pointing backwards in it are cut. Two sequences share one
+//!    linear-time bin formulation; the second is kept when at most 1/64 of
+//!    the edges go backwards in it, otherwise the first (it is abandoned as
+//!    soon as it is sure to exceed that):
 //!    - the heuristic of Eades, Lin & Smyth ("A fast and effective heuristic
 //!      for the feedback arc set problem", Information Processing Letters
 //!      47(6), 1993): repeatedly take sinks (to the back of the sequence),
@@ -32,8 +33,9 @@
 //!
 //! The whole pass has a search budget of twice the number of nodes plus
 //! edges of the non-trivial components (a test may spend up to four times
-//! an even share of what is left); a test that runs out leaves its edge cut
-//! and is counted in [`Cut::untested`]. So the pass is O((V + E) log(V + E))
+//! an even share of what is left, and is not started with less than 64); a
+//! test that runs out or is not started leaves its edge cut and is counted
+//! in [`Cut::untested`]. So the pass is O((V + E) log(V + E))
 //! (the log from sorting the reordered nodes). When `untested` is zero,
 //! which is always the case for components totalling at most 4,096 nodes
 //! and edges, the cut is minimal: putting back any single cut edge closes a
@@ -201,35 +203,44 @@ pub fn cut_cycles<I: Idx>(csr: &Csr<'_, I>) -> Result<Cut<I>, Error> {
 enum Pick {
     /// Largest out-degree minus in-degree (Eades–Lin–Smyth).
     Difference,
-    /// Smallest in-degree (Kahn's algorithm, forced on).
-    FewestIn,
+    /// Smallest in-degree (Kahn's algorithm, forced on); abandoned once the
+    /// in-edges left at forced picks (all of them backward edges) exceed
+    /// the given count.
+    FewestIn(usize),
 }
 
-/// The Kahn-forced sequence keeps its place without a comparison when at
-/// most this fraction (1 / `FEW_BACKWARD`) of the inner edges go backwards.
+/// The Kahn-forced sequence is kept when at most this fraction
+/// (1 / `FEW_BACKWARD`) of the inner edges go backwards in it.
 const FEW_BACKWARD: usize = 64;
 
-/// Ranks of the better of the two greedy sequences (fewer backward edges;
-/// Eades–Lin–Smyth on a tie), the Eades–Lin–Smyth one being built only when
-/// the Kahn-forced one leaves more than 1/64 of the edges backwards.
+/// Ranks of the Kahn-forced sequence when it leaves few edges backwards
+/// (see [`FEW_BACKWARD`]), else of the Eades–Lin–Smyth sequence. The
+/// Kahn-forced one is abandoned as soon as its forced picks alone exceed
+/// that many backward edges.
 fn best_sequence_ranks(g: &Inner, ticker: &mut Ticker) -> Result<Vec<usize>, Error> {
-    let (fewest_in_backward, fewest_in) = sequence_ranks(g, Pick::FewestIn, ticker)?;
-    if fewest_in_backward <= g.fwd_target.len() / FEW_BACKWARD {
-        return Ok(fewest_in);
+    let few = g.fwd_target.len() / FEW_BACKWARD;
+    if let Some((backward, fewest_in)) = sequence_ranks(g, Pick::FewestIn(few), ticker)? {
+        if backward <= few {
+            return Ok(fewest_in);
+        }
     }
-    let (difference_backward, difference) = sequence_ranks(g, Pick::Difference, ticker)?;
-    Ok(if fewest_in_backward < difference_backward { fewest_in } else { difference })
+    match sequence_ranks(g, Pick::Difference, ticker)? {
+        Some((_, difference)) => Ok(difference),
+        None => Err(Error::Internal { reason: "the greedy sequence was abandoned".to_string() }),
+    }
 }
 
 /// The ranks of the greedy sequence under `pick`, and how many edges go
-/// backwards in it.
+/// backwards in it; `None` when the sequence was abandoned.
 fn sequence_ranks(
     g: &Inner,
     pick: Pick,
     ticker: &mut Ticker,
-) -> Result<(usize, Vec<usize>), Error> {
+) -> Result<Option<(usize, Vec<usize>)>, Error> {
     let h = g.nodes();
-    let sequence = greedy_sequence(g, pick, ticker)?;
+    let Some(sequence) = greedy_sequence(g, pick, ticker)? else {
+        return Ok(None);
+    };
     let mut rank = alloc::filled("cut: ranks", h, 0usize)?;
     for (p, &u) in sequence.iter().enumerate() {
         rank[u] = p;
@@ -240,13 +251,18 @@ fn sequence_ranks(
         ticker.tick_by(g.out_edges(u).len() + 1)?;
         backward += g.out_edges(u).filter(|&e| rank[u] > rank[g.fwd_target[e]]).count();
     }
-    Ok((backward, rank))
+    Ok(Some((backward, rank)))
 }
 
 /// A greedy sequence of the local graph (bin formulation): sinks to the
 /// back, sources to the front, otherwise the node chosen by `pick` to the
-/// front. Ties go to the smallest local id.
-fn greedy_sequence(g: &Inner, pick: Pick, ticker: &mut Ticker) -> Result<Vec<usize>, Error> {
+/// front. Ties go to the smallest local id. `None` when abandoned (see
+/// [`Pick::FewestIn`]).
+fn greedy_sequence(
+    g: &Inner,
+    pick: Pick,
+    ticker: &mut Ticker,
+) -> Result<Option<Vec<usize>>, Error> {
     let h = g.nodes();
     let mut out_degree = alloc::with_capacity("cut: out-degrees", h)?;
     out_degree.extend((0..h).map(|u| g.out_edges(u).len()));
@@ -256,7 +272,7 @@ fn greedy_sequence(g: &Inner, pick: Pick, ticker: &mut Ticker) -> Result<Vec<usi
     let max_out = out_degree.iter().copied().max().unwrap_or(0);
     let bins = match pick {
         Pick::Difference => 2 + max_in + max_out + 1,
-        Pick::FewestIn => 2 + max_in + 1,
+        Pick::FewestIn(_) => 2 + max_in + 1,
     };
     let mut lists = Lists::new(h, bins)?;
     let list_for = |out: usize, inn: usize| -> usize {
@@ -267,7 +283,7 @@ fn greedy_sequence(g: &Inner, pick: Pick, ticker: &mut Ticker) -> Result<Vec<usi
         } else {
             match pick {
                 Pick::Difference => 2 + out + max_in - inn,
-                Pick::FewestIn => 2 + max_in - inn,
+                Pick::FewestIn(_) => 2 + max_in - inn,
             }
         }
     };
@@ -276,6 +292,7 @@ fn greedy_sequence(g: &Inner, pick: Pick, ticker: &mut Ticker) -> Result<Vec<usi
         lists.push(list_for(out_degree[u], in_degree[u]), u);
     }
     let mut top = lists.count() - 1;
+    let mut forced_backward = 0usize;
     let mut front = alloc::with_capacity("cut: sequence", h)?;
     let mut back = Vec::new();
     loop {
@@ -291,6 +308,13 @@ fn greedy_sequence(g: &Inner, pick: Pick, ticker: &mut Ticker) -> Result<Vec<usi
             }
             match lists.first(top) {
                 Some(u) if top > SOURCES => {
+                    if let Pick::FewestIn(limit) = pick {
+                        // Every in-edge still left comes from a node placed later.
+                        forced_backward += in_degree[u];
+                        if forced_backward > limit {
+                            return Ok(None);
+                        }
+                    }
                     front.push(u);
                     u
                 }
@@ -317,7 +341,7 @@ fn greedy_sequence(g: &Inner, pick: Pick, ticker: &mut Ticker) -> Result<Vec<usi
         }
     }
     front.extend(back.iter().rev());
-    Ok(front)
+    Ok(Some(front))
 }
 
 const SINKS: usize = 0;
@@ -405,6 +429,10 @@ impl Lists {
 /// budget.
 const PUT_BACK_WORK: usize = 2;
 const PUT_BACK_EXACT: usize = 1 << 12;
+/// A test is not started with less budget than this: on graphs where the
+/// share per edge is that small (dense random graphs with hundreds of
+/// thousands of candidates) almost every test would run out anyway.
+const PUT_BACK_LEAST: usize = 64;
 
 /// Pearce–Kelly put-back of the candidate edges `(source, edge)`, in order,
 /// with the two searches run in turns (see the module documentation).
@@ -445,6 +473,10 @@ fn put_back(
         if lower > upper {
             // Earlier reorderings already put x before y.
             is_cut[e] = false;
+            continue;
+        }
+        if cap < PUT_BACK_LEAST {
+            untested += 1;
             continue;
         }
         // Forward from y through ranks below x's, backward from x through
