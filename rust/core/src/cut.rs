@@ -31,7 +31,7 @@
 //! cycle: the edge goes back, and the other side is completed for the
 //! reordering).
 //!
-//! The whole pass has a search budget of twice the number of nodes plus
+//! The whole pass has a search budget of four times the number of nodes plus
 //! edges of the non-trivial components (a test may spend up to four times
 //! an even share of what is left, and is not started with less than 64); a
 //! test that runs out or is not started leaves its edge cut and is counted
@@ -427,7 +427,7 @@ impl Lists {
 /// spend per node and edge of the non-trivial components; components
 /// totalling at most `PUT_BACK_EXACT` nodes and edges are tested without a
 /// budget.
-const PUT_BACK_WORK: usize = 2;
+const PUT_BACK_WORK: usize = 4;
 const PUT_BACK_EXACT: usize = 1 << 12;
 /// A test is not started with less budget than this: on graphs where the
 /// share per edge is that small (dense random graphs with hundreds of
