@@ -7,6 +7,8 @@
 //! thread's call stack. One array, `rindex`, serves as visit index, low link
 //! and finally component number.
 
+use crate::alloc;
+use crate::interrupt::Ticker;
 use crate::{Csr, Error, Idx};
 
 /// The strongly connected components of a graph.
@@ -21,7 +23,41 @@ pub struct Components<I> {
 }
 
 impl<I: Idx> Components<I> {
-    /// Number of nodes in each component.
+    /// Number of nodes in each component; [`Error::Allocation`] when the
+    /// result does not fit in memory.
+    pub fn try_sizes(&self) -> Result<Vec<I>, Error> {
+        let mut sizes = alloc::filled("component sizes", self.count, I::default())?;
+        for label in &self.labels {
+            let size = &mut sizes[label.to_usize()];
+            *size = I::from_usize(size.to_usize() + 1);
+        }
+        Ok(sizes)
+    }
+
+    /// The nodes of each component, grouped by label (ascending id inside a
+    /// component): `(start, members)` with component `c` being
+    /// `members[start[c]..start[c + 1]]`. Kept for existing callers; see
+    /// [`try_members`](Self::try_members).
+    pub fn members(&self) -> (Vec<usize>, Vec<I>) {
+        let count = self.count;
+        self.members_in(
+            vec![0; count + 1],
+            vec![0; count + 1],
+            vec![I::default(); self.labels.len()],
+        )
+    }
+
+    /// [`members`](Self::members), reporting [`Error::Allocation`] instead
+    /// of aborting when the buffers do not fit in memory.
+    pub fn try_members(&self) -> Result<(Vec<usize>, Vec<I>), Error> {
+        let start = alloc::filled("component starts", self.count + 1, 0usize)?;
+        let cursor = alloc::filled("component cursors", self.count + 1, 0usize)?;
+        let members = alloc::filled("component members", self.labels.len(), I::default())?;
+        Ok(self.members_in(start, cursor, members))
+    }
+
+    /// Number of nodes in each component (kept for existing callers; see
+    /// [`try_sizes`](Self::try_sizes)).
     pub fn sizes(&self) -> Vec<I> {
         let mut sizes = vec![0usize; self.count];
         for label in &self.labels {
@@ -30,19 +66,21 @@ impl<I: Idx> Components<I> {
         sizes.into_iter().map(I::from_usize).collect()
     }
 
-    /// The nodes of each component, grouped by label (ascending id inside a
-    /// component): `(start, members)` with component `c` being
-    /// `members[start[c]..start[c + 1]]`.
-    pub fn members(&self) -> (Vec<usize>, Vec<I>) {
-        let mut start = vec![0usize; self.count + 1];
+    /// [`members`](Self::members) into zeroed buffers of `count + 1`,
+    /// `count + 1` and `n` entries.
+    fn members_in(
+        &self,
+        mut start: Vec<usize>,
+        mut cursor: Vec<usize>,
+        mut members: Vec<I>,
+    ) -> (Vec<usize>, Vec<I>) {
         for label in &self.labels {
             start[label.to_usize() + 1] += 1;
         }
         for c in 0..self.count {
             start[c + 1] += start[c];
         }
-        let mut cursor = start.clone();
-        let mut members = vec![I::default(); self.labels.len()];
+        cursor.copy_from_slice(&start);
         for (v, label) in self.labels.iter().enumerate() {
             let slot = &mut cursor[label.to_usize()];
             members[*slot] = I::from_usize(v);
@@ -86,8 +124,10 @@ pub fn strong_components_with_entries<I: Idx>(
     csr: &Csr<'_, I>,
 ) -> Result<(Components<I>, Vec<I>), Error> {
     let (slots, shift, count) = search::<I, Counted<I>>(csr)?;
-    let labels = slots.iter().map(|s| I::from_usize(s.rindex.to_usize() - shift)).collect();
-    let entered = slots.iter().map(|s| s.entered).collect();
+    let mut labels = alloc::with_capacity("component labels", slots.len())?;
+    labels.extend(slots.iter().map(|s| I::from_usize(s.rindex.to_usize() - shift)));
+    let mut entered = alloc::with_capacity("edges entering each node", slots.len())?;
+    entered.extend(slots.iter().map(|s| s.entered));
     Ok((Components { labels, count }, entered))
 }
 
@@ -151,7 +191,8 @@ fn search<I: Idx, S: Slot<I>>(csr: &Csr<'_, I>) -> Result<(Vec<S>, usize, usize)
     // indices stay at most `component` and finished numbers above it
     // (Pearce's invariant, with the count starting one higher than in the
     // paper so the two ranges never touch), so comparisons tell them apart.
-    let mut slots: Vec<S> = vec![S::default(); n];
+    let mut slots: Vec<S> = alloc::filled("component search slots", n, S::default())?;
+    let mut ticker = Ticker::new();
     let mut path: Vec<Frame<I>> = Vec::new();
     let mut open: Vec<I> = Vec::new();
     let mut index: usize = 1;
@@ -161,6 +202,7 @@ fn search<I: Idx, S: Slot<I>>(csr: &Csr<'_, I>) -> Result<(Vec<S>, usize, usize)
         if slots[start].rindex().to_usize() != 0 {
             continue;
         }
+        ticker.tick_by(indptr[start + 1].to_usize() - indptr[start].to_usize() + 1)?;
         slots[start].set_rindex(I::from_usize(index));
         index += 1;
         path.push(Frame {
@@ -179,6 +221,7 @@ fn search<I: Idx, S: Slot<I>>(csr: &Csr<'_, I>) -> Result<(Vec<S>, usize, usize)
                 let slot = &mut slots[w];
                 let rw = slot.rindex();
                 if rw.to_usize() == 0 {
+                    ticker.tick_by(indptr[w + 1].to_usize() - indptr[w].to_usize() + 1)?;
                     frame.next = I::from_usize(next);
                     slot.set_rindex(I::from_usize(index));
                     slots[v].set_rindex(low);
@@ -257,19 +300,22 @@ pub fn condensation<I: Idx>(
         return Err(Error::LengthMismatch { what: "labels", expected: csr.n(), got: labels.len() });
     }
     let count = components.count;
-    let (start, members) = components.members();
+    let (start, members) = components.try_members()?;
     // Rows by source, targets in first-seen order, parallel edges merged:
     // last_row[d] remembers the row that last added d, slot[d] where.
     let none = usize::MAX;
-    let mut last_row = vec![none; count];
-    let mut slot = vec![0usize; count];
-    let mut row_start = Vec::with_capacity(count + 1);
+    let mut ticker = Ticker::new();
+    let mut last_row = alloc::filled("condensation rows", count, none)?;
+    let mut slot = alloc::filled("condensation slots", count, 0usize)?;
+    let mut row_start = alloc::with_capacity("condensation rows", count + 1)?;
     let mut targets: Vec<usize> = Vec::new();
     let mut weights: Vec<usize> = Vec::new();
     row_start.push(0usize);
     for c in 0..count {
         for &u in &members[start[c]..start[c + 1]] {
-            for &v in csr.row(u.to_usize()) {
+            let row = csr.row(u.to_usize());
+            ticker.tick_by(row.len() + 1)?;
+            for &v in row {
                 let d = labels[v.to_usize()].to_usize();
                 if d == c {
                     continue;
@@ -289,26 +335,30 @@ pub fn condensation<I: Idx>(
     // Sort every row by target in linear time: bucket the edges by target
     // (sources come out ascending), then bucket back by source.
     let e = targets.len();
-    let mut by_target_start = vec![0usize; count + 1];
+    let mut by_target_start = alloc::filled("condensation columns", count + 1, 0usize)?;
     for &d in &targets {
         by_target_start[d + 1] += 1;
     }
     for d in 0..count {
         by_target_start[d + 1] += by_target_start[d];
     }
-    let mut cursor = by_target_start.clone();
-    let mut by_target = vec![(0usize, 0usize); e];
+    let mut cursor = alloc::with_capacity("condensation cursors", count + 1)?;
+    cursor.extend_from_slice(&by_target_start);
+    let mut by_target = alloc::filled("condensation edges", e, (0usize, 0usize))?;
     for c in 0..count {
+        ticker.tick_by(row_start[c + 1] - row_start[c] + 1)?;
         for k in row_start[c]..row_start[c + 1] {
             let s = &mut cursor[targets[k]];
             by_target[*s] = (c, weights[k]);
             *s += 1;
         }
     }
-    let mut cursor = row_start.clone();
-    let mut indices = vec![I::default(); e];
-    let mut sorted_weights = vec![I::default(); e];
+    let mut cursor = alloc::with_capacity("condensation cursors", count + 1)?;
+    cursor.extend_from_slice(&row_start);
+    let mut indices = alloc::filled("condensation targets", e, I::default())?;
+    let mut sorted_weights = alloc::filled("condensation weights", e, I::default())?;
     for d in 0..count {
+        ticker.tick_by(by_target_start[d + 1] - by_target_start[d] + 1)?;
         for &(c, weight) in &by_target[by_target_start[d]..by_target_start[d + 1]] {
             let s = &mut cursor[c];
             indices[*s] = I::from_usize(d);

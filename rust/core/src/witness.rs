@@ -1,6 +1,8 @@
 //! Directed cycles as evidence: one shortest cycle through a given node, or
 //! through the smallest node that lies on any cycle.
 
+use crate::alloc;
+use crate::interrupt::Ticker;
 use crate::scc::strong_components;
 use crate::{Csr, Error, Idx};
 
@@ -22,14 +24,18 @@ pub fn shortest_cycle_through<I: Idx>(
     let start = through as usize;
     // parent[v] == n: not reached yet.
     let unseen = I::from_usize(n);
-    let mut parent = vec![unseen; n];
+    let mut parent = alloc::filled("cycle search parents", n, unseen)?;
     parent[start] = I::from_usize(start);
-    let mut queue: Vec<usize> = vec![start];
+    let mut queue: Vec<usize> = alloc::with_capacity("cycle search queue", n)?;
+    queue.push(start);
     let mut head = 0;
+    let mut ticker = Ticker::new();
     while head < queue.len() {
         let u = queue[head];
         head += 1;
-        for &w in csr.row(u) {
+        let row = csr.row(u);
+        ticker.tick_by(row.len() + 1)?;
+        for &w in row {
             let w = w.to_usize();
             if w == start {
                 let mut cycle = Vec::new();
@@ -55,11 +61,19 @@ pub fn shortest_cycle_through<I: Idx>(
 /// through the smallest node id that lies on any cycle. O(V + E).
 pub fn find_cycle<I: Idx>(csr: &Csr<'_, I>) -> Result<Option<Vec<I>>, Error> {
     let components = strong_components(csr)?;
-    let sizes = components.sizes();
-    let on_cycle = (0..csr.n()).find(|&v| {
-        sizes[components.labels[v].to_usize()].to_usize() > 1
-            || csr.row(v).iter().any(|w| w.to_usize() == v)
-    });
+    let sizes = components.try_sizes()?;
+    let mut ticker = Ticker::new();
+    let mut on_cycle = None;
+    for v in 0..csr.n() {
+        let row = csr.row(v);
+        ticker.tick_by(row.len() + 1)?;
+        if sizes[components.labels[v].to_usize()].to_usize() > 1
+            || row.iter().any(|w| w.to_usize() == v)
+        {
+            on_cycle = Some(v);
+            break;
+        }
+    }
     match on_cycle {
         Some(v) => shortest_cycle_through(csr, v as i128),
         None => Ok(None),
