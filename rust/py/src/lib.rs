@@ -39,6 +39,7 @@ mod common;
 mod cycles;
 mod metrics;
 mod order;
+mod peel;
 mod schedule;
 mod sweeps;
 
@@ -49,5 +50,6 @@ fn _core(m: &Bound<'_, PyModule>) -> PyResult<()> {
     schedule::register(m)?;
     sweeps::register(m)?;
     cycles::register(m)?;
+    peel::register(m)?;
     Ok(())
 }
