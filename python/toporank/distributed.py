@@ -185,9 +185,7 @@ def _split(part: Any, source: str, target: str, block: int, shards: int) -> list
     owner = src // block
     by_owner = np.argsort(owner, kind="stable")
     bounds = np.searchsorted(owner[by_owner], np.arange(shards + 1))
-    return [
-        (src[by_owner[a:b]], dst[by_owner[a:b]]) for a, b in zip(bounds[:-1], bounds[1:])
-    ]
+    return [(src[by_owner[a:b]], dst[by_owner[a:b]]) for a, b in zip(bounds[:-1], bounds[1:])]
 
 
 def _build(s: int, lo: int, hi: int, block: int, shards: int, *pieces: Any) -> Any:
@@ -231,6 +229,10 @@ def _build(s: int, lo: int, hi: int, block: int, shards: int, *pieces: Any) -> A
 def _step(previous: Any, first: bool, *boxes: Any) -> Any:
     """One round of one shard: apply messages, peel locally, fill outboxes."""
     shard = dict(previous[0])
+    for key in ("indptr", "targets", "slot_group"):
+        # A shard that moved between processes may arrive in unaligned
+        # buffers; copy once (the copy stays with the shard).
+        shard[key] = np.require(shard[key], requirements=["C", "A"])
     dtype = shard["indptr"].dtype
     remaining = shard["remaining"].copy()
     level = shard["level"].copy()
@@ -304,7 +306,11 @@ def _place(step: Any, base: np.ndarray, bounds: np.ndarray) -> list[Any]:
     rank = np.arange(len(level), dtype=np.int64) - starts[level]
     position = base[level] + rank
     by_position = np.argsort(position, kind="stable")
-    node, level, position = node[by_position] + shard["lo"], level[by_position], position[by_position]
+    node, level, position = (
+        node[by_position] + shard["lo"],
+        level[by_position],
+        position[by_position],
+    )
     cut = np.searchsorted(position, bounds)
     return [(node[a:b], level[a:b], position[a:b]) for a, b in zip(cut[:-1], cut[1:])]
 

@@ -147,7 +147,9 @@ pub fn peel<I: Idx>(
             if t < n {
                 let have = remaining[t].to_usize();
                 if have == 0 {
-                    return Err(internal(format!("node {t} reached more often than its in-degree")));
+                    return Err(internal(format!(
+                        "node {t} reached more often than its in-degree"
+                    )));
                 }
                 remaining[t] = I::from_usize(have - 1);
                 level[t] = level[t].max(next);
@@ -230,7 +232,8 @@ mod tests {
                     .map(|k| src[k] as usize)
                     .collect();
                 if preds.iter().all(|&p| done[p]) {
-                    level[v] = Some(preds.iter().map(|&p| level[p].unwrap() + 1).max().unwrap_or(0));
+                    level[v] =
+                        Some(preds.iter().map(|&p| level[p].unwrap() + 1).max().unwrap_or(0));
                     done[v] = true;
                     changed = true;
                 }
@@ -265,7 +268,9 @@ mod tests {
                 let mut slot_nodes: Vec<i64> = dst
                     .iter()
                     .zip(src)
-                    .filter(|(&d, &s)| (lo..hi).contains(&(s as usize)) && !(lo..hi).contains(&(d as usize)))
+                    .filter(|(&d, &s)| {
+                        (lo..hi).contains(&(s as usize)) && !(lo..hi).contains(&(d as usize))
+                    })
                     .map(|(&d, _)| d)
                     .collect();
                 slot_nodes.sort();
@@ -322,7 +327,8 @@ mod tests {
                 };
                 let (nodes, counts, levels) = &inboxes[g];
                 let inbox = Inbox { nodes, counts, levels };
-                let out = peel(&shard, &mut b.remaining, &mut b.level, &inbox, rounds == 1).unwrap();
+                let out =
+                    peel(&shard, &mut b.remaining, &mut b.level, &inbox, rounds == 1).unwrap();
                 for d in 0..groups {
                     for k in out.offsets[d]..out.offsets[d + 1] {
                         let global = b.slot_nodes[out.slots[k] as usize];
@@ -391,7 +397,8 @@ mod tests {
         let indptr = [0i64, 1, 1];
         let targets = [2i64];
         let slot_group = [1i64];
-        let shard = Shard { indptr: &indptr, targets: &targets, slot_group: &slot_group, groups: 2 };
+        let shard =
+            Shard { indptr: &indptr, targets: &targets, slot_group: &slot_group, groups: 2 };
         let (mut remaining, mut level) = (vec![0i64, 1], vec![0i64, 0]);
         let bad = Inbox { nodes: &[5i64], counts: &[1], levels: &[1] };
         let e = peel(&shard, &mut remaining, &mut level, &bad, false).unwrap_err();
@@ -420,7 +427,8 @@ mod tests {
         let indptr = [0i64, 3, 5];
         let targets = [1i64, 2, 3, 2, 3];
         let slot_group = [2i64, 0];
-        let shard = Shard { indptr: &indptr, targets: &targets, slot_group: &slot_group, groups: 3 };
+        let shard =
+            Shard { indptr: &indptr, targets: &targets, slot_group: &slot_group, groups: 3 };
         let (mut remaining, mut level) = (vec![0i64, 1], vec![0i64, 0]);
         let none = Inbox { nodes: &[], counts: &[], levels: &[] };
         let out = peel(&shard, &mut remaining, &mut level, &none, true).unwrap();

@@ -38,7 +38,9 @@ fn run<'py, I: Idx + numpy::Element>(
     let levels = read(levels, "inbox_levels")?;
     let write = |a: &Bound<'py, PyAny>, name: &str| {
         typed::<I>(a, name)?.try_readwrite().map_err(|_| {
-            PyValueError::new_err(format!("{name} must be a writeable array not shared with another"))
+            PyValueError::new_err(format!(
+                "{name} must be a writeable array not shared with another"
+            ))
         })
     };
     let (mut remaining, mut level) = (write(remaining, "remaining")?, write(level, "level")?);
