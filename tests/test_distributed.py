@@ -16,11 +16,11 @@ pytest.importorskip(
     "distributed", reason="the 'dask' extra is not installed: pip install '.[dask]'"
 )
 
-import dask.dataframe as dd  # noqa: E402
-import pandas as pd  # noqa: E402
-from distributed import Client, LocalCluster  # noqa: E402
+import dask.dataframe as dd
+import pandas as pd
+from distributed import Client, LocalCluster
 
-import toporank.distributed as td  # noqa: E402
+import toporank.distributed as td
 
 
 @pytest.fixture(scope="session")
@@ -198,18 +198,20 @@ def test_rounds_are_logged(client, caplog):
     assert "4 of 4" in rounds[-1].getMessage()
 
 
-def test_kernel_widths_agree_and_reject_bad_messages():
+@pytest.mark.parametrize("dtype", [np.int32, np.int64])
+def test_kernel_widths_agree_and_reject_bad_messages(dtype):
+    def a(*values):
+        return np.array(values, dtype=dtype)
+
     # One shard of two own nodes (0 -> 1) and one outside slot owned by group 1.
-    for dtype in (np.int32, np.int64):
-        a = lambda *v: np.array(v, dtype=dtype)  # noqa: E731
-        remaining, level = a(0, 1), a(0, 0)
-        peeled, slots, counts, levels, offsets = toporank._core.peel_shard(
-            a(0, 2, 2), a(1, 2), a(1), 2, remaining, level, a(), a(), a(), True
+    remaining, level = a(0, 1), a(0, 0)
+    peeled, slots, counts, levels, offsets = toporank._core.peel_shard(
+        a(0, 2, 2), a(1, 2), a(1), 2, remaining, level, a(), a(), a(), True
+    )
+    assert (peeled, level.tolist(), remaining.tolist()) == (2, [0, 1], [0, 0])
+    assert (slots.tolist(), counts.tolist(), levels.tolist()) == ([0], [1], [1])
+    assert offsets.tolist() == [0, 0, 1]
+    with pytest.raises(toporank.GraphInputError, match="inbox nodes"):
+        toporank._core.peel_shard(
+            a(0, 2, 2), a(1, 2), a(1), 2, a(0, 1), a(0, 0), a(7), a(1), a(1), False
         )
-        assert (peeled, level.tolist(), remaining.tolist()) == (2, [0, 1], [0, 0])
-        assert (slots.tolist(), counts.tolist(), levels.tolist()) == ([0], [1], [1])
-        assert offsets.tolist() == [0, 0, 1]
-        with pytest.raises(toporank.GraphInputError, match="inbox nodes"):
-            toporank._core.peel_shard(
-                a(0, 2, 2), a(1, 2), a(1), 2, a(0, 1), a(0, 0), a(7), a(1), a(1), False
-            )

@@ -21,6 +21,7 @@ through it. Rounds = the most shard crossings along any path, plus one.
 from __future__ import annotations
 
 import atexit
+import itertools
 import logging
 import math
 import operator
@@ -185,7 +186,7 @@ def _split(part: Any, source: str, target: str, block: int, shards: int) -> list
     owner = src // block
     by_owner = np.argsort(owner, kind="stable")
     bounds = np.searchsorted(owner[by_owner], np.arange(shards + 1))
-    return [(src[by_owner[a:b]], dst[by_owner[a:b]]) for a, b in zip(bounds[:-1], bounds[1:])]
+    return [(src[by_owner[a:b]], dst[by_owner[a:b]]) for a, b in itertools.pairwise(bounds)]
 
 
 def _build(s: int, lo: int, hi: int, block: int, shards: int, *pieces: Any) -> Any:
@@ -205,7 +206,7 @@ def _build(s: int, lo: int, hi: int, block: int, shards: int, *pieces: Any) -> A
     indptr = np.zeros(own + 1, dtype=dtype)
     np.cumsum(np.bincount(src, minlength=own), out=indptr[1:])
     remaining = np.bincount(tgt[inside], minlength=own).astype(dtype)
-    shard = {
+    shard: dict[str, Any] = {
         "s": s,
         "lo": lo,
         "block": block,
@@ -237,14 +238,15 @@ def _step(previous: Any, first: bool, *boxes: Any) -> Any:
     remaining = shard["remaining"].copy()
     level = shard["level"].copy()
     empty = np.empty(0, dtype=dtype)
+    inbox: list[Any]
     if first:
         for nodes, counts, _ in boxes:
             remaining[nodes] += counts.astype(dtype)
-        inbox = (empty, empty, empty)
+        inbox = [empty, empty, empty]
     elif boxes:
-        inbox = tuple(np.concatenate([box[k] for box in boxes]).astype(dtype) for k in range(3))
+        inbox = [np.concatenate([box[k] for box in boxes]).astype(dtype) for k in range(3)]
     else:
-        inbox = (empty, empty, empty)
+        inbox = [empty, empty, empty]
     peeled, slots, counts, levels, offsets = _core.peel_shard(
         shard["indptr"],
         shard["targets"],
@@ -252,7 +254,9 @@ def _step(previous: Any, first: bool, *boxes: Any) -> Any:
         len(shard["bounds"]) - 1,
         remaining,
         level,
-        *inbox,
+        inbox[0],
+        inbox[1],
+        inbox[2],
         first,
     )
     shard["remaining"], shard["level"] = remaining, level
@@ -312,7 +316,7 @@ def _place(step: Any, base: np.ndarray, bounds: np.ndarray) -> list[Any]:
         position[by_position],
     )
     cut = np.searchsorted(position, bounds)
-    return [(node[a:b], level[a:b], position[a:b]) for a, b in zip(cut[:-1], cut[1:])]
+    return [(node[a:b], level[a:b], position[a:b]) for a, b in itertools.pairwise(cut)]
 
 
 def _gather_part(start: int, stop: int, *pieces: Any) -> Any:
