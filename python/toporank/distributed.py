@@ -359,8 +359,11 @@ def peel(
     source, target
         Column names of the edge endpoints.
     partitions
-        Number of shards (contiguous id ranges). ``None``: one per input
-        partition.
+        Number of shards (contiguous id ranges of nodes). ``None``: one per
+        worker of the cluster. Each round routes messages between every pair
+        of shards as its own small task, so the fixed cost of a round grows
+        with the square of the shard count (measured on two local workers:
+        about 0.02 s per round with 2 shards, 0.3 s with 16).
     n
         Node count; ``None`` means the largest id + 1. Ids that appear in no
         edge are isolated nodes of level 0.
@@ -406,7 +409,8 @@ def peel(
         n = high + 1
     elif n < high + 1:
         raise GraphInputError(f"n = {n} but the edges contain node id {high}")
-    shards = partitions if partitions is not None else max(1, len(parts))
+    workers = sorted(client.scheduler_info()["workers"])
+    shards = partitions if partitions is not None else max(1, len(workers))
     if shards < 1:
         raise GraphInputError(f"partitions must be >= 1, got {partitions}")
     block = max(1, math.ceil(n / shards)) if n else 1
@@ -416,7 +420,9 @@ def peel(
     splits = [client.submit(_split, p, source, target, block, shards) for p in parts]
     pieces = [[client.submit(operator.getitem, sp, s) for sp in splits] for s in range(shards)]
     current = [
-        client.submit(_build, s, lows[s], lows[s + 1], block, shards, *pieces[s])
+        client.submit(
+            _build, s, lows[s], lows[s + 1], block, shards, *pieces[s], **_home(workers, s)
+        )
         for s in range(shards)
     ]
     del parts, splits, pieces
@@ -439,7 +445,10 @@ def peel(
             for d, size in enumerate(sizes):
                 if size:
                     boxes[d].append(client.submit(_pick, current[r], d))
-        current = [client.submit(_step, current[s], first, *boxes[s]) for s in range(shards)]
+        current = [
+            client.submit(_step, current[s], first, *boxes[s], **_home(workers, s))
+            for s in range(shards)
+        ]
         sent = client.gather([client.submit(_stats, f) for f in current])
         first = False
         peeled = sum(p for _, p in sent)
@@ -479,6 +488,13 @@ def peel(
         _finals=current,
         _bounds=lows,
     )
+
+
+def _home(workers: list[str], s: int) -> dict[str, Any]:
+    """Spread shards over the workers, round robin (a preference, not a rule)."""
+    if not workers:
+        return {}
+    return {"workers": [workers[s % len(workers)]], "allow_other_workers": True}
 
 
 def _checked(run: PeelRun, on_cycle: str) -> PeelRun:
