@@ -215,3 +215,9 @@ def test_kernel_widths_agree_and_reject_bad_messages(dtype):
         toporank._core.peel_shard(
             a(0, 2, 2), a(1, 2), a(1), 2, a(0, 1), a(0, 0), a(7), a(1), a(1), False
         )
+
+
+def test_progress_bar_counts_levelled_nodes(client, capsys):
+    td.levels(frame([0, 1, 2], [1, 2, 3]), client=client, partitions=2, progress=True)
+    err = capsys.readouterr().err
+    assert "levelled" in err and "4/4" in err

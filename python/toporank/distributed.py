@@ -108,7 +108,6 @@ class PeelRun:
     round_seconds: list[float] = field(default_factory=list)
     build_seconds: float = 0.0
     _finals: list[Any] = field(default_factory=list, repr=False)
-    _bounds: list[int] = field(default_factory=list, repr=False)
 
 
 def _client(client: Any) -> Any:
@@ -486,7 +485,6 @@ def peel(
         round_seconds=round_seconds,
         build_seconds=build_seconds,
         _finals=current,
-        _bounds=lows,
     )
 
 

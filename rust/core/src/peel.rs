@@ -329,13 +329,13 @@ mod tests {
                 let inbox = Inbox { nodes, counts, levels };
                 let out =
                     peel(&shard, &mut b.remaining, &mut b.level, &inbox, rounds == 1).unwrap();
-                for d in 0..groups {
+                for (d, to) in next.iter_mut().enumerate() {
                     for k in out.offsets[d]..out.offsets[d + 1] {
                         let global = b.slot_nodes[out.slots[k] as usize];
                         assert_eq!(global as usize / block, d);
-                        next[d].0.push(global - (d * block) as i64);
-                        next[d].1.push(out.counts[k]);
-                        next[d].2.push(out.levels[k]);
+                        to.0.push(global - (d * block) as i64);
+                        to.1.push(out.counts[k]);
+                        to.2.push(out.levels[k]);
                         moved += 1;
                     }
                 }

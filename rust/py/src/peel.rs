@@ -13,7 +13,7 @@ fn typed<'py, I: numpy::Element>(
     array: &Bound<'py, PyAny>,
     name: &str,
 ) -> PyResult<Bound<'py, PyArray1<I>>> {
-    array.cast::<PyArray1<I>>().map(|a| a.clone()).map_err(|_| {
+    array.cast::<PyArray1<I>>().cloned().map_err(|_| {
         PyTypeError::new_err(format!("{name} must be a 1-D array of the dtype of indptr"))
     })
 }
