@@ -123,6 +123,12 @@ def test_cyclic_graph_reports_unlevelled_nodes(client):
         rest = g.subgraph(set(range(200)) - stuck)
         for k, generation in enumerate(nx.topological_generations(rest)):
             assert (marked[list(generation)] == k).all()
+        # The order leaves them out and puts every other edge forward.
+        got = td.order(frame(src, dst), client=client, partitions=partitions, on_cycle="mark")
+        node = got.compute()["node"].tolist()
+        assert sorted(node) == sorted(rest.nodes)
+        rank = {v: k for k, v in enumerate(node)}
+        assert all(rank[u] < rank[v] for u, v in rest.edges)
 
 
 def check_order(got, n, src, dst):

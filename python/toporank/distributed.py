@@ -33,6 +33,7 @@ import numpy as np
 
 from . import _core
 from ._errors import GraphInputError
+from ._graph import Graph
 
 try:
     import dask
@@ -183,6 +184,8 @@ def _split(part: Any, source: str, target: str, block: int, shards: int) -> list
     src = part[source].to_numpy().astype(np.int64, copy=False)
     dst = part[target].to_numpy().astype(np.int64, copy=False)
     owner = src // block
+    if shards <= np.iinfo(np.uint16).max:
+        owner = owner.astype(np.uint16)  # numpy sorts 16-bit keys by radix: O(m)
     by_owner = np.argsort(owner, kind="stable")
     bounds = np.searchsorted(owner[by_owner], np.arange(shards + 1))
     return [(src[by_owner[a:b]], dst[by_owner[a:b]]) for a, b in itertools.pairwise(bounds)]
@@ -201,16 +204,15 @@ def _build(s: int, lo: int, hi: int, block: int, shards: int, *pieces: Any) -> A
     tgt[inside] = dst[inside] - lo
     outside_slot = np.searchsorted(slot_nodes, dst[~inside])
     tgt[~inside] = own + outside_slot
-    by_row = np.argsort(src, kind="stable")
-    indptr = np.zeros(own + 1, dtype=dtype)
-    np.cumsum(np.bincount(src, minlength=own), out=indptr[1:])
+    # The package's counting sort (rows keep input order); slot rows stay empty.
+    csr = Graph.from_edges(src, tgt, n=own + slots)
     remaining = np.bincount(tgt[inside], minlength=own).astype(dtype)
     shard: dict[str, Any] = {
         "s": s,
         "lo": lo,
         "block": block,
-        "indptr": indptr,
-        "targets": tgt[by_row].astype(dtype),
+        "indptr": csr.indptr[: own + 1].astype(dtype),
+        "targets": csr.indices.astype(dtype),
         "slot_nodes": slot_nodes,
         "slot_group": (slot_nodes // block).astype(dtype),
         "bounds": np.searchsorted(slot_nodes, np.arange(shards + 1, dtype=np.int64) * block),
@@ -385,7 +387,7 @@ def peel(
     >>> import dask.dataframe as dd, pandas as pd
     >>> from distributed import Client, LocalCluster
     >>> import toporank.distributed as td
-    >>> cluster = LocalCluster(n_workers=1, processes=False, dashboard_address=None)
+    >>> cluster = LocalCluster(n_workers=1, host="127.0.0.1", dashboard_address=None)
     >>> client = Client(cluster)
     >>> edges = dd.from_pandas(pd.DataFrame({"src": [0, 1, 2, 0], "dst": [1, 2, 3, 3]}),
     ...                        npartitions=2)
@@ -551,7 +553,7 @@ def levels(
     >>> import dask.dataframe as dd, pandas as pd
     >>> from distributed import Client, LocalCluster
     >>> import toporank.distributed as td
-    >>> cluster = LocalCluster(n_workers=1, processes=False, dashboard_address=None)
+    >>> cluster = LocalCluster(n_workers=1, host="127.0.0.1", dashboard_address=None)
     >>> client = Client(cluster)
     >>> edges = dd.from_pandas(pd.DataFrame({"src": [0, 0, 1, 2, 3], "dst": [1, 2, 3, 3, 4]}),
     ...                        npartitions=2)
@@ -629,7 +631,7 @@ def order(
     >>> import dask.dataframe as dd, pandas as pd
     >>> from distributed import Client, LocalCluster
     >>> import toporank.distributed as td
-    >>> cluster = LocalCluster(n_workers=1, processes=False, dashboard_address=None)
+    >>> cluster = LocalCluster(n_workers=1, host="127.0.0.1", dashboard_address=None)
     >>> client = Client(cluster)
     >>> edges = dd.from_pandas(pd.DataFrame({"src": [3, 3, 0, 1], "dst": [1, 0, 2, 2]}),
     ...                        npartitions=2)
