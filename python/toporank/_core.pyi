@@ -285,3 +285,18 @@ def cycle_witness(
     indptr: np.ndarray, indices: np.ndarray, through: int | None = None
 ) -> np.ndarray | None: ...
 def cut_cycles(indptr: np.ndarray, indices: np.ndarray) -> Cut: ...
+
+__all__ += ["peel_shard"]
+
+def peel_shard(
+    indptr: np.ndarray,
+    targets: np.ndarray,
+    slot_group: np.ndarray,
+    groups: int,
+    remaining: np.ndarray,
+    level: np.ndarray,
+    inbox_nodes: np.ndarray,
+    inbox_counts: np.ndarray,
+    inbox_levels: np.ndarray,
+    seed_zero: bool,
+) -> tuple[int, np.ndarray, np.ndarray, np.ndarray, np.ndarray]: ...

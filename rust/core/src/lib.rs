@@ -22,6 +22,7 @@ pub mod kahn;
 pub mod levels;
 pub mod metrics;
 pub mod paths;
+pub mod peel;
 pub mod pool;
 pub mod rng;
 pub mod scc;

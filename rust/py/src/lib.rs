@@ -16,6 +16,7 @@ mod cycles;
 mod errors;
 mod metrics;
 mod order;
+mod peel;
 mod schedule;
 mod sweeps;
 
@@ -28,5 +29,6 @@ fn _core(m: &Bound<'_, PyModule>) -> PyResult<()> {
     schedule::register(m)?;
     sweeps::register(m)?;
     cycles::register(m)?;
+    peel::register(m)?;
     Ok(())
 }
