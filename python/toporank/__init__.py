@@ -5,6 +5,7 @@ compiled core with the GIL released. Start with :func:`order`.
 """
 
 from ._compare import Comparison, compare
+from ._dynamic import DynamicOrder
 from ._cycles import Condensation, CycleCut, components, condense, cut_cycles, cycle_witness
 from ._errors import CyclicGraphError, GraphInputError, InvalidOrderError
 from ._graph import Graph, as_graph
@@ -22,6 +23,7 @@ __all__ = [
     "CriticalPath",
     "CycleCut",
     "CyclicGraphError",
+    "DynamicOrder",
     "Graph",
     "GraphFileError",
     "GraphInputError",

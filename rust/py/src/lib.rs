@@ -37,6 +37,7 @@ macro_rules! with_index_width {
 
 mod common;
 mod cycles;
+mod dynamic;
 mod metrics;
 mod order;
 mod schedule;
@@ -49,5 +50,6 @@ fn _core(m: &Bound<'_, PyModule>) -> PyResult<()> {
     schedule::register(m)?;
     sweeps::register(m)?;
     cycles::register(m)?;
+    dynamic::register(m)?;
     Ok(())
 }

@@ -1,0 +1,627 @@
+//! A topological order maintained under edge insertions and deletions
+//! (Pearce & Kelly, "A dynamic topological sort algorithm for directed
+//! acyclic graphs", ACM JEA 11, 2006; venue from memory).
+//!
+//! The graph is held as per-node successor and predecessor vectors that grow
+//! in place, so an insertion never rebuilds anything. The order is two
+//! arrays, `position[node]` and `node_at[position]`, so "does `u` come before
+//! `v`" is one comparison.
+//!
+//! Inserting `u -> v` with `u` already before `v` costs O(1). Otherwise let
+//! `lb = position[v] < ub = position[u]`: a depth-first search forward from
+//! `v` over nodes placed before `ub` (the set F) and one backward from `u`
+//! over nodes placed after `lb` (the set B) bound the affected region. When
+//! the forward search reaches `u` the edge would close a cycle and the search
+//! stack is the witness path `v -> ... -> u`. Otherwise the positions held by
+//! F and B are pooled and handed out again, B first, then F, each keeping its
+//! relative order. Cost: O(|F| + |B| + edges leaving them, plus a sort of the
+//! region), independent of the graph's size.
+//!
+//! Deletion never invalidates an order, so it only edits the two vectors.
+//! An edge is found by a scan of its source's successors (O(out-degree)),
+//! and removed with `swap_remove`, so no tombstones accumulate.
+//!
+//! Batches are all or nothing: edges go in one at a time and every change
+//! (edge pushed, node moved, edge removed) is logged, so a refused edge or
+//! an interrupt undoes the batch exactly, at a cost proportional to the
+//! work already done.
+
+use crate::interrupt::Ticker;
+use crate::{alloc, Csr, Error, Idx, Tie};
+
+/// What a single insertion did.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub enum Insertion {
+    /// The edge went in; `affected` nodes changed position (0 when `u`
+    /// already came before `v`).
+    Added { affected: usize },
+    /// The edge would close a cycle and was refused; nothing changed.
+    /// `cycle` is the path `v -> ... -> u` (just `[u]` for a self-loop);
+    /// the refused edge `u -> v` closes it.
+    Refused { cycle: Vec<usize> },
+}
+
+/// What a batch insertion did.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub enum BatchInsertion {
+    /// Every edge went in; `affected` sums the per-edge affected regions.
+    Added { affected: usize },
+    /// Edge number `index` of the batch would close a cycle with the graph
+    /// plus the batch edges before it; nothing changed. `cycle` is as for
+    /// [`Insertion::Refused`].
+    Refused { index: usize, cycle: Vec<usize> },
+}
+
+/// One logged change, undone in reverse order.
+#[derive(Debug, Clone, Copy)]
+enum Change {
+    /// `u -> v` was pushed onto both vectors.
+    Pushed { u: usize, v: usize },
+    /// `node` moved away from `position`.
+    Moved { node: usize, position: usize },
+    /// `u -> v` was swap-removed from `out[u][at_out]` and `inc[v][at_in]`.
+    Removed { u: usize, v: usize, at_out: usize, at_in: usize },
+}
+
+/// A directed acyclic graph together with a topological order of it.
+#[derive(Debug, Clone, Default)]
+pub struct DynamicOrder {
+    out: Vec<Vec<usize>>,
+    inc: Vec<Vec<usize>>,
+    position: Vec<usize>,
+    node_at: Vec<usize>,
+    edges: usize,
+    /// Scratch, all false between operations.
+    mark: Vec<bool>,
+    forward: Vec<usize>,
+    backward: Vec<usize>,
+    stack: Vec<(usize, usize)>,
+    slots: Vec<usize>,
+    /// Total affected-region size over every insertion so far.
+    affected_total: u64,
+}
+
+fn node(what: &'static str, value: i64, n: usize) -> Result<usize, Error> {
+    usize::try_from(value).ok().filter(|&v| v < n).ok_or(Error::NoSuchNode {
+        what,
+        value: value as i128,
+        n,
+    })
+}
+
+fn grow<T>(what: &'static str, v: &mut Vec<T>, extra: usize) -> Result<(), Error> {
+    v.try_reserve(extra).map_err(|_| Error::Allocation {
+        what,
+        count: v.len().saturating_add(extra),
+        bytes_each: std::mem::size_of::<T>(),
+    })
+}
+
+impl DynamicOrder {
+    /// `n` nodes, no edges, ordered by id.
+    pub fn new(n: usize) -> Result<Self, Error> {
+        let mut this = DynamicOrder::default();
+        this.add_nodes(n)?;
+        Ok(this)
+    }
+
+    /// The graph `csr` in the order Kahn's algorithm (FIFO) gives it, or the
+    /// cycle Kahn's algorithm reports when `csr` has one.
+    pub fn from_csr<I: Idx>(csr: &Csr<'_, I>) -> Result<Result<Self, Vec<usize>>, Error> {
+        let outcome = crate::kahn(csr, &Tie::Queue)?;
+        if !outcome.is_complete() {
+            return Ok(Err(outcome.cycle.iter().map(|c| c.to_usize()).collect()));
+        }
+        let n = csr.n();
+        let mut this = DynamicOrder::new(n)?;
+        let mut in_degree = alloc::filled("in-degrees", n, 0usize)?;
+        let mut ticker = Ticker::new();
+        for &v in csr.indices() {
+            // kahn() checked every endpoint
+            if let Some(d) = in_degree.get_mut(v.to_usize()) {
+                *d += 1;
+            }
+        }
+        for (u, &d) in in_degree.iter().enumerate() {
+            let row = csr.row(u);
+            ticker.tick_by(row.len() + 1)?;
+            this.out[u] = alloc::with_capacity("successor lists", row.len())?;
+            this.inc[u] = alloc::with_capacity("predecessor lists", d)?;
+        }
+        for u in 0..n {
+            for &v in csr.row(u) {
+                let v = v.to_usize();
+                this.out[u].push(v);
+                this.inc[v].push(u);
+            }
+        }
+        for (at, &v) in outcome.order.iter().enumerate() {
+            let v = v.to_usize();
+            this.position[v] = at;
+            this.node_at[at] = v;
+        }
+        this.edges = csr.m();
+        Ok(Ok(this))
+    }
+
+    /// Number of nodes.
+    pub fn n(&self) -> usize {
+        self.position.len()
+    }
+
+    /// Number of edges (duplicates counted).
+    pub fn m(&self) -> usize {
+        self.edges
+    }
+
+    /// The nodes in topological order.
+    pub fn order(&self) -> &[usize] {
+        &self.node_at
+    }
+
+    /// `positions()[v]` is the place of `v` in [`DynamicOrder::order`].
+    pub fn positions(&self) -> &[usize] {
+        &self.position
+    }
+
+    /// The place of node `v` in the order.
+    pub fn position(&self, v: i64) -> Result<usize, Error> {
+        Ok(self.position[node("v", v, self.n())?])
+    }
+
+    /// Whether `u` comes before `v` in the order (false when `u == v`).
+    pub fn precedes(&self, u: i64, v: i64) -> Result<bool, Error> {
+        let n = self.n();
+        let (u, v) = (node("u", u, n)?, node("v", v, n)?);
+        Ok(self.position[u] < self.position[v])
+    }
+
+    /// Successors of `u` (in the order their edges were added, except that
+    /// a removal moves the last edge of the row into the gap).
+    pub fn successors(&self, u: usize) -> &[usize] {
+        self.out.get(u).map_or(&[], |row| row.as_slice())
+    }
+
+    /// Total size of every affected region so far (nodes repositioned).
+    pub fn affected_total(&self) -> u64 {
+        self.affected_total
+    }
+
+    /// Append `count` isolated nodes, placed last in the order.
+    pub fn add_nodes(&mut self, count: usize) -> Result<(), Error> {
+        let n = self.n();
+        let total =
+            n.checked_add(count).filter(|&t| t <= i64::MAX as usize).ok_or(Error::TooLarge {
+                what: "node count",
+                count: n.saturating_add(count),
+                max: i64::MAX as usize,
+            })?;
+        grow("successor lists", &mut self.out, count)?;
+        grow("predecessor lists", &mut self.inc, count)?;
+        grow("positions", &mut self.position, count)?;
+        grow("order", &mut self.node_at, count)?;
+        grow("marks", &mut self.mark, count)?;
+        self.out.resize_with(total, Vec::new);
+        self.inc.resize_with(total, Vec::new);
+        self.position.extend(n..total);
+        self.node_at.extend(n..total);
+        self.mark.resize(total, false);
+        Ok(())
+    }
+
+    /// Insert `u -> v` unless it would close a cycle.
+    pub fn add_edge(&mut self, u: i64, v: i64) -> Result<Insertion, Error> {
+        let n = self.n();
+        let (u, v) = (node("u", u, n)?, node("v", v, n)?);
+        self.insert(u, v, None)
+    }
+
+    /// Insert every `src[k] -> dst[k]`, or none of them when one would close
+    /// a cycle (with the graph plus the batch edges before it) or the caller
+    /// interrupts.
+    pub fn add_edges(&mut self, src: &[i64], dst: &[i64]) -> Result<BatchInsertion, Error> {
+        let (n, count) = (self.n(), src.len());
+        if dst.len() != count {
+            return Err(Error::LengthMismatch { what: "dst", expected: count, got: dst.len() });
+        }
+        for (what, ends) in [("src", src), ("dst", dst)] {
+            for (position, &value) in ends.iter().enumerate() {
+                if usize::try_from(value).map_or(true, |x| x >= n) {
+                    return Err(Error::IndexOutOfRange { what, position, value: value as i128, n });
+                }
+            }
+        }
+        let mut log = Vec::new();
+        let before = self.affected_total;
+        let mut ticker = Ticker::new();
+        for (index, (&u, &v)) in src.iter().zip(dst).enumerate() {
+            let step =
+                ticker.tick().and_then(|()| self.insert(u as usize, v as usize, Some(&mut log)));
+            match step {
+                Ok(Insertion::Added { .. }) => {}
+                Ok(Insertion::Refused { cycle }) => {
+                    self.undo(log);
+                    self.affected_total = before;
+                    return Ok(BatchInsertion::Refused { index, cycle });
+                }
+                Err(e) => {
+                    self.undo(log);
+                    self.affected_total = before;
+                    return Err(e);
+                }
+            }
+        }
+        Ok(BatchInsertion::Added { affected: (self.affected_total - before) as usize })
+    }
+
+    /// Remove one copy of `u -> v`; false (and nothing changed) when there is none.
+    pub fn remove_edge(&mut self, u: i64, v: i64) -> Result<bool, Error> {
+        let n = self.n();
+        let (u, v) = (node("u", u, n)?, node("v", v, n)?);
+        Ok(self.delete(u, v).is_some())
+    }
+
+    /// Remove one copy of every `src[k] -> dst[k]` (a pair listed twice
+    /// removes two copies). `Some(k)` when edge `k` is missing (after the
+    /// removal of the ones before it); nothing changed then.
+    pub fn remove_edges(&mut self, src: &[i64], dst: &[i64]) -> Result<Option<usize>, Error> {
+        let (n, count) = (self.n(), src.len());
+        if dst.len() != count {
+            return Err(Error::LengthMismatch { what: "dst", expected: count, got: dst.len() });
+        }
+        let mut log = Vec::new();
+        let mut ticker = Ticker::new();
+        for (index, (&u, &v)) in src.iter().zip(dst).enumerate() {
+            let ends = ticker.tick().and_then(|()| {
+                let u =
+                    usize::try_from(u).ok().filter(|&x| x < n).ok_or(Error::IndexOutOfRange {
+                        what: "src",
+                        position: index,
+                        value: u as i128,
+                        n,
+                    })?;
+                let v =
+                    usize::try_from(v).ok().filter(|&x| x < n).ok_or(Error::IndexOutOfRange {
+                        what: "dst",
+                        position: index,
+                        value: v as i128,
+                        n,
+                    })?;
+                Ok((u, v))
+            });
+            let (u, v) = match ends {
+                Ok(pair) => pair,
+                Err(e) => {
+                    self.undo(log);
+                    return Err(e);
+                }
+            };
+            match self.delete(u, v) {
+                Some(change) => log.push(change),
+                None => {
+                    self.undo(log);
+                    return Ok(Some(index));
+                }
+            }
+        }
+        Ok(None)
+    }
+
+    /// Edges as CSR (rows in successor-list order), int64.
+    pub fn to_csr(&self) -> Result<(Vec<i64>, Vec<i64>), Error> {
+        let mut indptr = alloc::with_capacity("indptr", self.n() + 1)?;
+        let mut indices = alloc::with_capacity("indices", self.edges)?;
+        indptr.push(0i64);
+        for row in &self.out {
+            indices.extend(row.iter().map(|&v| v as i64));
+            indptr.push(indices.len() as i64);
+        }
+        Ok((indptr, indices))
+    }
+
+    fn delete(&mut self, u: usize, v: usize) -> Option<Change> {
+        // the most recent copy, so that add-then-remove leaves rows as they were
+        let at_out = self.out[u].iter().rposition(|&w| w == v)?;
+        let at_in = self.inc[v].iter().rposition(|&w| w == u)?;
+        self.out[u].swap_remove(at_out);
+        self.inc[v].swap_remove(at_in);
+        self.edges -= 1;
+        Some(Change::Removed { u, v, at_out, at_in })
+    }
+
+    fn undo(&mut self, log: Vec<Change>) {
+        for change in log.into_iter().rev() {
+            match change {
+                Change::Pushed { u, v } => {
+                    self.out[u].pop();
+                    self.inc[v].pop();
+                    self.edges -= 1;
+                }
+                Change::Moved { node, position } => {
+                    self.position[node] = position;
+                    self.node_at[position] = node;
+                }
+                Change::Removed { u, v, at_out, at_in } => {
+                    // capacity is still there: swap_remove never shrinks
+                    let row = &mut self.out[u];
+                    row.push(v);
+                    let last = row.len() - 1;
+                    row.swap(at_out, last);
+                    let col = &mut self.inc[v];
+                    col.push(u);
+                    let last = col.len() - 1;
+                    col.swap(at_in, last);
+                    self.edges += 1;
+                }
+            }
+        }
+    }
+
+    /// Pearce-Kelly insertion of `u -> v` (ids already checked).
+    fn insert(
+        &mut self,
+        u: usize,
+        v: usize,
+        mut log: Option<&mut Vec<Change>>,
+    ) -> Result<Insertion, Error> {
+        if u == v {
+            return Ok(Insertion::Refused { cycle: vec![u] });
+        }
+        // reserve first so that a failed allocation changes nothing
+        grow("successor lists", &mut self.out[u], 1)?;
+        grow("predecessor lists", &mut self.inc[v], 1)?;
+        let (lower, upper) = (self.position[v], self.position[u]);
+        let mut affected = 0;
+        if lower < upper {
+            if let Some(cycle) = self.search_forward(v, u, upper) {
+                return Ok(Insertion::Refused { cycle });
+            }
+            self.search_backward(u, lower);
+            affected = self.reorder(log.as_deref_mut());
+        }
+        self.out[u].push(v);
+        self.inc[v].push(u);
+        self.edges += 1;
+        if let Some(log) = log {
+            log.push(Change::Pushed { u, v });
+        }
+        self.affected_total += affected as u64;
+        Ok(Insertion::Added { affected })
+    }
+
+    /// Depth-first from `start` over nodes placed before `upper`, marking
+    /// them into `forward`. Returns the path `start -> ... -> target` (and
+    /// clears every mark) when `target` is reached.
+    fn search_forward(&mut self, start: usize, target: usize, upper: usize) -> Option<Vec<usize>> {
+        self.forward.clear();
+        self.stack.clear();
+        self.mark[start] = true;
+        self.forward.push(start);
+        self.stack.push((start, 0));
+        while let Some(&mut (x, ref mut next)) = self.stack.last_mut() {
+            let Some(&w) = self.out[x].get(*next) else {
+                self.stack.pop();
+                continue;
+            };
+            *next += 1;
+            if w == target {
+                let mut cycle: Vec<usize> = self.stack.iter().map(|&(x, _)| x).collect();
+                cycle.push(target);
+                for &f in &self.forward {
+                    self.mark[f] = false;
+                }
+                return Some(cycle);
+            }
+            if !self.mark[w] && self.position[w] < upper {
+                self.mark[w] = true;
+                self.forward.push(w);
+                self.stack.push((w, 0));
+            }
+        }
+        None
+    }
+
+    /// Depth-first backward from `start` over nodes placed after `lower`,
+    /// marking them into `backward`.
+    fn search_backward(&mut self, start: usize, lower: usize) {
+        self.backward.clear();
+        self.stack.clear();
+        self.mark[start] = true;
+        self.backward.push(start);
+        self.stack.push((start, 0));
+        while let Some(&mut (x, ref mut next)) = self.stack.last_mut() {
+            let Some(&w) = self.inc[x].get(*next) else {
+                self.stack.pop();
+                continue;
+            };
+            *next += 1;
+            if !self.mark[w] && self.position[w] > lower {
+                self.mark[w] = true;
+                self.backward.push(w);
+                self.stack.push((w, 0));
+            }
+        }
+    }
+
+    /// Hand the positions of `backward` and `forward` out again: backward
+    /// nodes first, then forward ones, each set in its current relative
+    /// order. Clears the marks; returns the region's size.
+    fn reorder(&mut self, mut log: Option<&mut Vec<Change>>) -> usize {
+        let position = &self.position;
+        self.forward.sort_unstable_by_key(|&x| position[x]);
+        self.backward.sort_unstable_by_key(|&x| position[x]);
+        self.slots.clear();
+        self.slots.extend(self.backward.iter().chain(&self.forward).map(|&x| position[x]));
+        self.slots.sort_unstable();
+        let moved = self.backward.iter().chain(&self.forward);
+        for (&x, &slot) in moved.zip(&self.slots) {
+            self.mark[x] = false;
+            if let Some(log) = log.as_deref_mut() {
+                log.push(Change::Moved { node: x, position: self.position[x] });
+            }
+            self.position[x] = slot;
+            self.node_at[slot] = x;
+        }
+        self.forward.len() + self.backward.len()
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::rng::SplitMix64;
+    use crate::testing::random_dag;
+
+    /// Plain reference: is `to` reachable from `from` (breadth-first over
+    /// an edge list)?
+    fn reaches(edges: &[(usize, usize)], n: usize, from: usize, to: usize) -> bool {
+        let mut seen = vec![false; n];
+        let mut todo = vec![from];
+        seen[from] = true;
+        while let Some(x) = todo.pop() {
+            if x == to {
+                return true;
+            }
+            for &(a, b) in edges {
+                if a == x && !seen[b] {
+                    seen[b] = true;
+                    todo.push(b);
+                }
+            }
+        }
+        false
+    }
+
+    fn check(d: &DynamicOrder, edges: &[(usize, usize)]) {
+        let n = d.n();
+        let mut sorted = d.order().to_vec();
+        sorted.sort_unstable();
+        assert_eq!(sorted, (0..n).collect::<Vec<_>>(), "order is a permutation");
+        for (at, &x) in d.order().iter().enumerate() {
+            assert_eq!(d.positions()[x], at);
+        }
+        for &(a, b) in edges {
+            assert!(d.positions()[a] < d.positions()[b], "edge {a} -> {b} goes backwards");
+        }
+        let mut mine: Vec<(usize, usize)> =
+            (0..n).flat_map(|u| d.successors(u).iter().map(move |&v| (u, v))).collect();
+        let mut theirs = edges.to_vec();
+        mine.sort_unstable();
+        theirs.sort_unstable();
+        assert_eq!(mine, theirs, "edge multiset");
+        assert_eq!(d.m(), edges.len());
+        assert!(d.mark.iter().all(|&m| !m), "marks cleared");
+    }
+
+    fn assert_cycle(edges: &[(usize, usize)], u: usize, v: usize, cycle: &[usize]) {
+        assert_eq!(cycle.first(), Some(&v));
+        assert_eq!(cycle.last(), Some(&u));
+        for pair in cycle.windows(2) {
+            assert!(edges.contains(&(pair[0], pair[1])), "{pair:?} is no edge");
+        }
+    }
+
+    #[test]
+    fn random_sequences_match_reachability() {
+        let mut rng = SplitMix64::new(12);
+        for _ in 0..300 {
+            let (indptr, indices) = random_dag(&mut rng, 14, 30);
+            let csr = Csr::new(&indptr, &indices).unwrap();
+            let mut d = DynamicOrder::from_csr(&csr).unwrap().unwrap();
+            let n = d.n();
+            let mut edges: Vec<(usize, usize)> =
+                (0..n).flat_map(|u| csr.row(u).iter().map(move |&v| (u, v as usize))).collect();
+            check(&d, &edges);
+            if n == 0 {
+                continue;
+            }
+            for _ in 0..40 {
+                let u = rng.below(n as u64) as usize;
+                let v = rng.below(n as u64) as usize;
+                match rng.below(4) {
+                    0 if !edges.is_empty() => {
+                        let (a, b) = edges[rng.below(edges.len() as u64) as usize];
+                        assert!(d.remove_edge(a as i64, b as i64).unwrap());
+                        let at = edges.iter().rposition(|&e| e == (a, b)).unwrap();
+                        edges.remove(at);
+                    }
+                    1 => {
+                        let before = (d.order().to_vec(), edges.clone());
+                        let batch: Vec<(usize, usize)> = (0..3)
+                            .map(|_| (rng.below(n as u64) as usize, rng.below(n as u64) as usize))
+                            .collect();
+                        let src: Vec<i64> = batch.iter().map(|e| e.0 as i64).collect();
+                        let dst: Vec<i64> = batch.iter().map(|e| e.1 as i64).collect();
+                        match d.add_edges(&src, &dst).unwrap() {
+                            BatchInsertion::Added { .. } => edges.extend(&batch),
+                            BatchInsertion::Refused { index, cycle } => {
+                                let mut with: Vec<_> = edges.clone();
+                                with.extend(&batch[..index]);
+                                let (a, b) = batch[index];
+                                assert!(reaches(&with, n, b, a));
+                                assert_cycle(&with, a, b, &cycle);
+                                assert_eq!(d.order(), &before.0[..]);
+                                assert_eq!(before.1, edges);
+                            }
+                        }
+                    }
+                    _ => {
+                        let closes = reaches(&edges, n, v, u);
+                        let before = d.order().to_vec();
+                        let rows: Vec<Vec<usize>> =
+                            (0..n).map(|x| d.successors(x).to_vec()).collect();
+                        match d.add_edge(u as i64, v as i64).unwrap() {
+                            Insertion::Added { .. } => {
+                                assert!(!closes);
+                                edges.push((u, v));
+                            }
+                            Insertion::Refused { cycle } => {
+                                assert!(closes);
+                                assert_cycle(&edges, u, v, &cycle);
+                                assert_eq!(d.order(), &before[..]);
+                                let now: Vec<Vec<usize>> =
+                                    (0..n).map(|x| d.successors(x).to_vec()).collect();
+                                assert_eq!(rows, now);
+                            }
+                        }
+                    }
+                }
+                check(&d, &edges);
+            }
+        }
+    }
+
+    #[test]
+    fn failed_removal_batch_restores_rows_exactly() {
+        let mut d = DynamicOrder::new(4).unwrap();
+        d.add_edges(&[0, 0, 0, 1], &[1, 2, 3, 2]).unwrap();
+        let rows: Vec<Vec<usize>> = (0..4).map(|x| d.successors(x).to_vec()).collect();
+        assert_eq!(d.remove_edges(&[0, 1, 0], &[1, 2, 1]).unwrap(), Some(2));
+        let now: Vec<Vec<usize>> = (0..4).map(|x| d.successors(x).to_vec()).collect();
+        assert_eq!(rows, now);
+        assert_eq!(d.m(), 4);
+        assert_eq!(d.remove_edges(&[0, 1], &[1, 2]).unwrap(), None);
+        assert_eq!(d.m(), 2);
+    }
+
+    #[test]
+    fn bad_ids_are_named() {
+        let mut d = DynamicOrder::new(3).unwrap();
+        let e = d.add_edge(0, 3).unwrap_err();
+        assert!(e.to_string().contains("v = 3"), "{e}");
+        let e = d.add_edges(&[0, 1], &[1, -1]).unwrap_err();
+        assert!(e.to_string().contains("dst[1] = -1"), "{e}");
+        assert_eq!(d.add_edge(1, 1).unwrap(), Insertion::Refused { cycle: vec![1] });
+        assert!(d.add_nodes(usize::MAX).is_err());
+        d.add_nodes(2).unwrap();
+        assert_eq!(d.order(), &[0, 1, 2, 3, 4]);
+    }
+
+    #[test]
+    fn cyclic_input_reports_a_cycle() {
+        let (indptr, indices) = (vec![0i64, 1, 2], vec![1i64, 0]);
+        let csr = Csr::new(&indptr, &indices).unwrap();
+        let cycle = DynamicOrder::from_csr(&csr).unwrap().unwrap_err();
+        assert_eq!(cycle.len(), 2);
+    }
+}
