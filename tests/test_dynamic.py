@@ -8,6 +8,7 @@ permutation, common practice).
 
 from __future__ import annotations
 
+import itertools
 import pickle
 
 import networkx as nx
@@ -53,7 +54,7 @@ def check_cycle(edges, u, v, cycle):
     cycle = [int(x) for x in cycle]
     assert cycle[0] == v and cycle[-1] == u
     present = set(edges)
-    for a, b in zip(cycle, cycle[1:]):
+    for a, b in itertools.pairwise(cycle):
         assert (a, b) in present, (a, b)
     assert len(set(cycle)) == len(cycle)
 

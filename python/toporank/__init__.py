@@ -5,8 +5,8 @@ compiled core with the GIL released. Start with :func:`order`.
 """
 
 from ._compare import Comparison, compare
-from ._dynamic import DynamicOrder
 from ._cycles import Condensation, CycleCut, components, condense, cut_cycles, cycle_witness
+from ._dynamic import DynamicOrder
 from ._errors import CyclicGraphError, GraphInputError, InvalidOrderError
 from ._graph import Graph, as_graph
 from ._io import GraphFileError, read_graph

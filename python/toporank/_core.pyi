@@ -1,6 +1,6 @@
 """Type stubs of the compiled core. Private: call the functions of ``toporank``."""
 
-from typing import Any
+from typing import Any, final
 
 import numpy as np
 
@@ -99,12 +99,14 @@ def cut_cycles(indptr: np.ndarray, indices: np.ndarray) -> tuple[np.ndarray, np.
 
 __all__ += ["DynamicCore", "Refusal"]
 
+@final
 class Refusal:
     @property
     def index(self) -> int: ...
     @property
     def cycle(self) -> np.ndarray: ...
 
+@final
 class DynamicCore:
     def __new__(cls, n: int) -> DynamicCore: ...
     @staticmethod

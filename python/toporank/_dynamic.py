@@ -405,7 +405,9 @@ nothing changed
             try:
                 ids[k] = index[label]
             except (KeyError, TypeError):
-                raise GraphInputError(f"{what}[{k}] = {label!r} is not a node of the graph") from None
+                raise GraphInputError(
+                    f"{what}[{k}] = {label!r} is not a node of the graph"
+                ) from None
         return ids
 
     def _refused(self, cycle: np.ndarray, edge: tuple[Any, Any], index: int | None) -> Exception:
