@@ -237,6 +237,26 @@ def test_affected_region_is_local():
     assert d.affected_total == 101
 
 
+def test_batch_that_reverses_a_chain():
+    # Edges i + 1 -> i in descending i: one step at a time the affected regions
+    # grow to the whole chain; the batch switches to one re-sort of its window.
+    n = 3000
+    ids = np.arange(n - 1, dtype=np.int64)[::-1]
+    d = toporank.DynamicOrder(n=n)
+    d.add_edges(ids + 1, ids)
+    # networkx: a path has exactly one topological order
+    path = nx.DiGraph(list(zip((ids + 1).tolist(), ids.tolist())))
+    assert d.order.tolist() == list(nx.topological_sort(path))
+    assert d.affected_total < n * 10
+    # the same batch closing a cycle at its end is refused as a whole
+    e = toporank.DynamicOrder(n=n)
+    with pytest.raises(toporank.CyclicGraphError) as info:
+        e.add_edges(np.append(ids + 1, 0), np.append(ids, n - 1))
+    assert info.value.index == n - 1
+    assert info.value.cycle.tolist() == list(range(n - 1, -1, -1))
+    assert e.m == 0 and e.order.tolist() == list(range(n))
+
+
 def test_batches_release_the_gil():
     n = 200_000
     src = np.arange(n - 1, dtype=np.int64)

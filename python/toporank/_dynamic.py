@@ -280,6 +280,14 @@ nothing changed
             Sequences or 1-D arrays of equal length: node ids, or labels for
             a labelled graph.
 
+        Notes
+        -----
+        Edges go in one Pearce-Kelly step at a time until the steps' work
+        exceeds what one re-sort of the batch's window would cost (the
+        places between the lowest target and the highest source of the
+        edges that go backwards); the rest then go in by one Kahn re-sort
+        of that window alone. The GIL is released meanwhile.
+
         Raises
         ------
         CyclicGraphError
