@@ -49,8 +49,7 @@ class DynamicOrder:
     The graph is a multigraph, as elsewhere in the package: adding an edge
     twice stores two copies, and :meth:`remove_edge` removes one. Node ids
     (``order``, ``positions``) are int64. Batch methods release the GIL;
-    one instance must not be changed from several threads at once (guard
-    it with a lock; a second concurrent change raises ``RuntimeError``).
+    share one instance between threads only behind a lock of your own.
 
     References
     ----------

@@ -31,9 +31,9 @@
 //! costs much more than the cheaper of the two. A batch whose steps each
 //! drag a growing region (a chain arriving backwards) drops from quadratic
 //! to one linear pass. Every change (edge pushed, node moved, edge removed)
-//! is logged, so a refused edge or an interrupt undoes the batch exactly;
-//! when the window holds a cycle, the re-sort is undone and single steps
-//! find the first edge that closes one, and its witness.
+//! is logged, so a refused edge or an interrupt undoes the batch exactly.
+//! When the window holds a cycle, halving finds the first edge that closes
+//! one in O(log k) window re-sorts, and one search gives its witness.
 
 use crate::interrupt::Ticker;
 use crate::{alloc, Csr, Error, Idx, Tie};
@@ -286,17 +286,13 @@ impl DynamicOrder {
         dst: &[i64],
         log: &mut Vec<Change>,
     ) -> Result<Option<(usize, Vec<usize>)>, Error> {
-        let mut budget = if self.force_resort { 0 } else { self.resort_cost(src, dst) };
+        let budget = if self.force_resort { 0 } else { self.resort_cost(src, dst) };
         let mut ticker = Ticker::new();
         self.work = 0;
         for (index, (&u, &v)) in src.iter().zip(dst).enumerate() {
             ticker.tick()?;
             if self.work >= budget {
-                if self.resort_rest(&src[index..], &dst[index..], log, &mut ticker)? {
-                    return Ok(None);
-                }
-                // a cycle: the re-sort was undone; find the refused edge step by step
-                budget = usize::MAX;
+                return self.finish_by_resorts(src, dst, index, log, &mut ticker);
             }
             match self.insert(u as usize, v as usize, Some(log))? {
                 Insertion::Added { .. } => {}
@@ -304,6 +300,41 @@ impl DynamicOrder {
             }
         }
         Ok(None)
+    }
+
+    /// Edges `from..` by one window re-sort; when they close a cycle, find
+    /// the first edge that does by halving: a half that re-sorts fine stays
+    /// in, a half that does not is undone and halved again (O(log k)
+    /// re-sorts). That edge's witness comes from one Pearce-Kelly search.
+    fn finish_by_resorts(
+        &mut self,
+        src: &[i64],
+        dst: &[i64],
+        from: usize,
+        log: &mut Vec<Change>,
+        ticker: &mut Ticker,
+    ) -> Result<Option<(usize, Vec<usize>)>, Error> {
+        let (mut start, mut len) = (from, src.len() - from);
+        // invariant: with the edges before `start` in, edges start..start + len close a cycle
+        if self.resort_rest(&src[start..], &dst[start..], log, ticker)? {
+            return Ok(None);
+        }
+        while len > 1 {
+            let half = len / 2;
+            let end = start + half;
+            if self.resort_rest(&src[start..end], &dst[start..end], log, ticker)? {
+                start = end;
+                len -= half;
+            } else {
+                len = half;
+            }
+        }
+        match self.insert(src[start] as usize, dst[start] as usize, Some(log))? {
+            Insertion::Refused { cycle } => Ok(Some((start, cycle))),
+            Insertion::Added { .. } => Err(Error::Internal {
+                reason: format!("batch edge {start} was expected to close a cycle"),
+            }),
+        }
     }
 
     /// The smallest window of positions holding both ends of every edge
@@ -363,6 +394,14 @@ impl DynamicOrder {
             self.in_window[x] = 0;
         }
         if matches!(sorted, Ok(true)) {
+            // a later edge of the batch may still be refused: log the old places
+            grow("undo log", log, self.slots.len())?;
+            log.extend(
+                self.slots
+                    .iter()
+                    .enumerate()
+                    .map(|(k, &node)| Change::Moved { node, position: lower + k }),
+            );
             self.affected_total += self.slots.len() as u64;
             self.resorts += 1;
             return Ok(true);
@@ -788,6 +827,32 @@ mod tests {
         assert!(d.add_nodes(usize::MAX).is_err());
         d.add_nodes(2).unwrap();
         assert_eq!(d.order(), &[0, 1, 2, 3, 4]);
+    }
+
+    #[test]
+    fn long_batch_closing_a_cycle_at_its_end() {
+        // edges i + 1 -> i in descending i, then 0 -> n - 1: single steps
+        // would be quadratic; the re-sorts find edge n - 1 quickly
+        let n = 200_000usize;
+        let mut src: Vec<i64> = (1..n as i64).rev().collect();
+        let mut dst: Vec<i64> = (0..n as i64 - 1).rev().collect();
+        src.push(0);
+        dst.push(n as i64 - 1);
+        let mut d = DynamicOrder::new(n).unwrap();
+        match d.add_edges(&src, &dst).unwrap() {
+            BatchInsertion::Refused { index, cycle } => {
+                assert_eq!(index, n - 1);
+                assert_eq!(cycle, (0..n).rev().collect::<Vec<_>>());
+            }
+            other => panic!("{other:?}"),
+        }
+        assert_eq!(d.m(), 0);
+        assert_eq!(d.order(), &(0..n).collect::<Vec<_>>()[..]);
+        src.pop();
+        dst.pop();
+        let added = d.add_edges(&src, &dst).unwrap();
+        assert!(matches!(added, BatchInsertion::Added { .. }), "{added:?}");
+        assert_eq!(d.order(), &(0..n).rev().collect::<Vec<_>>()[..]);
     }
 
     #[test]
