@@ -53,6 +53,7 @@ CALLS = {
     "condense": lambda g: toporank.condense(g).dag.toarray().tolist(),
     "cycle_witness": lambda g: toporank.cycle_witness(_with_back_edge(g), through=1).tolist(),
     "cut_cycles": lambda g: toporank.cut_cycles(g).order.tolist(),
+    "DynamicOrder": lambda g: _dynamic_run(g),
 }
 
 
@@ -75,6 +76,14 @@ def _with_back_edge(matrix):
     cyclic.indptr = cyclic.indptr.astype(matrix.indptr.dtype)
     cyclic.indices = cyclic.indices.astype(matrix.indices.dtype)
     return cyclic
+
+
+def _dynamic_run(graph):
+    d = toporank.DynamicOrder(graph)
+    d.add_edge(4, 0)
+    d.add_edges(np.array([4], dtype=np.int32), np.array([3], dtype=np.int32))
+    d.remove_edge(2, 1)
+    return d.order.tolist(), d.graph.indices.tolist()
 
 
 def _saved_and_read(matrix):

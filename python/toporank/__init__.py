@@ -19,6 +19,7 @@ def _run_as_command() -> bool:
 try:
     from ._compare import Comparison, compare
     from ._cycles import Condensation, CycleCut, components, condense, cut_cycles, cycle_witness
+    from ._dynamic import DynamicOrder
     from ._errors import CyclicGraphError, GraphInputError, InvalidOrderError
     from ._graph import Graph, as_graph
     from ._metrics import OrderMetrics, order_metrics
@@ -41,6 +42,7 @@ __all__ = [
     "CriticalPath",
     "CycleCut",
     "CyclicGraphError",
+    "DynamicOrder",
     "Graph",
     "GraphFileError",
     "GraphInputError",

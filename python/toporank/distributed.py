@@ -248,7 +248,7 @@ def _step(previous: Any, first: bool, *boxes: Any) -> Any:
         inbox = [np.concatenate([box[k] for box in boxes]).astype(dtype) for k in range(3)]
     else:
         inbox = [empty, empty, empty]
-    peeled, slots, counts, levels, offsets = _core.peel_shard(
+    step = _core.peel_shard(
         shard["indptr"],
         shard["targets"],
         shard["slot_group"],
@@ -259,6 +259,13 @@ def _step(previous: Any, first: bool, *boxes: Any) -> Any:
         inbox[1],
         inbox[2],
         first,
+    )
+    peeled, slots, counts, levels, offsets = (
+        step.peeled,
+        step.slots,
+        step.counts,
+        step.levels,
+        step.offsets,
     )
     shard["remaining"], shard["level"] = remaining, level
     nodes = shard["slot_nodes"][slots]

@@ -13,6 +13,7 @@ pub mod condense;
 pub mod critical;
 pub mod csr;
 pub mod cut;
+pub mod dynamic;
 pub mod edges;
 pub mod error;
 pub mod heap;

@@ -23,6 +23,11 @@ impl From<Error> for CoreError {
     }
 }
 
+/// A core error as its Python exception (for `map_err` outside [`compute`](crate::common::compute)).
+pub(crate) fn to_py(error: Error) -> PyErr {
+    CoreError(error).into()
+}
+
 static GRAPH_INPUT_ERROR: PyOnceLock<Py<PyType>> = PyOnceLock::new();
 
 /// `toporank.GraphInputError` carrying `message` (a `ValueError` when the

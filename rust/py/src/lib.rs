@@ -13,6 +13,7 @@ use pyo3::prelude::*;
 
 mod common;
 mod cycles;
+mod dynamic;
 mod errors;
 mod metrics;
 mod order;
@@ -30,5 +31,6 @@ fn _core(m: &Bound<'_, PyModule>) -> PyResult<()> {
     sweeps::register(m)?;
     cycles::register(m)?;
     peel::register(m)?;
+    dynamic::register(m)?;
     Ok(())
 }

@@ -1,25 +1,43 @@
 //! One shard's step of the level-synchronous peel (`toporank.distributed`).
 
-use numpy::{IntoPyArray, PyArray1, PyArrayMethods};
-use pyo3::exceptions::{PyTypeError, PyValueError};
+use numpy::{PyArray1, PyArrayMethods};
 use pyo3::prelude::*;
-use pyo3::types::PyTuple;
 use toporank_core::peel::{peel, Inbox, Shard};
-use toporank_core::Idx;
 
-use crate::common::{compute, slice, to_pyerr};
+use crate::common::{array, compute, has_dtype, read, Index};
+use crate::errors::input_error;
 
-fn typed<'py, I: numpy::Element>(
+/// One shard's step: how many nodes it peeled and its outbox (`slots`,
+/// `counts`, `levels`, grouped by destination shard at `offsets`).
+#[pyclass(module = "toporank._core", frozen)]
+pub(crate) struct PeelStep {
+    #[pyo3(get)]
+    peeled: usize,
+    #[pyo3(get)]
+    slots: Py<PyAny>,
+    #[pyo3(get)]
+    counts: Py<PyAny>,
+    #[pyo3(get)]
+    levels: Py<PyAny>,
+    #[pyo3(get)]
+    offsets: Py<PyAny>,
+}
+
+/// Argument `name`, writeable in place, of dtype `I`.
+fn writeable<'py, I: Index>(
     array: &Bound<'py, PyAny>,
-    name: &str,
-) -> PyResult<Bound<'py, PyArray1<I>>> {
-    array.cast::<PyArray1<I>>().cloned().map_err(|_| {
-        PyTypeError::new_err(format!("{name} must be a 1-D array of the dtype of indptr"))
+    name: &'static str,
+) -> PyResult<numpy::PyReadwriteArray1<'py, I>> {
+    let array = array
+        .cast::<PyArray1<I>>()
+        .map_err(|_| input_error(format!("{name} must be a 1-D array of the dtype of indptr")))?;
+    array.try_readwrite().map_err(|_| {
+        input_error(format!("{name} must be a writeable array not shared with another"))
     })
 }
 
 #[allow(clippy::too_many_arguments)]
-fn run<'py, I: Idx + numpy::Element>(
+fn run<'py, I: Index>(
     py: Python<'py>,
     indptr: &Bound<'py, PyAny>,
     targets: &Bound<'py, PyAny>,
@@ -29,51 +47,41 @@ fn run<'py, I: Idx + numpy::Element>(
     level: &Bound<'py, PyAny>,
     inbox: [&Bound<'py, PyAny>; 3],
     seed_zero: bool,
-) -> PyResult<Bound<'py, PyTuple>> {
-    let read = |a: &Bound<'py, PyAny>, name: &str| typed::<I>(a, name).map(|a| a.readonly());
-    let (indptr, targets) = (read(indptr, "indptr")?, read(targets, "targets")?);
-    let slot_group = read(slot_group, "slot_group")?;
+) -> PyResult<PeelStep> {
+    const SAME: &str = "the dtype of indptr";
+    let (indptr, targets) =
+        (read::<I>(indptr, "indptr", SAME)?, read::<I>(targets, "targets", SAME)?);
+    let slot_group = read::<I>(slot_group, "slot_group", SAME)?;
     let [nodes, counts, levels] = inbox;
-    let (nodes, counts) = (read(nodes, "inbox_nodes")?, read(counts, "inbox_counts")?);
-    let levels = read(levels, "inbox_levels")?;
-    let write = |a: &Bound<'py, PyAny>, name: &str| {
-        typed::<I>(a, name)?.try_readwrite().map_err(|_| {
-            PyValueError::new_err(format!(
-                "{name} must be a writeable array not shared with another"
-            ))
-        })
-    };
-    let (mut remaining, mut level) = (write(remaining, "remaining")?, write(level, "level")?);
+    let nodes = read::<I>(nodes, "inbox_nodes", SAME)?;
+    let counts = read::<I>(counts, "inbox_counts", SAME)?;
+    let levels = read::<I>(levels, "inbox_levels", SAME)?;
+    let (mut remaining, mut level) =
+        (writeable::<I>(remaining, "remaining")?, writeable::<I>(level, "level")?);
     let shard = Shard {
-        indptr: slice(&indptr, "indptr")?,
-        targets: slice(&targets, "targets")?,
-        slot_group: slice(&slot_group, "slot_group")?,
+        indptr: indptr.values()?,
+        targets: targets.values()?,
+        slot_group: slot_group.values()?,
         groups,
     };
-    let inbox = Inbox {
-        nodes: slice(&nodes, "inbox_nodes")?,
-        counts: slice(&counts, "inbox_counts")?,
-        levels: slice(&levels, "inbox_levels")?,
-    };
-    let not_contiguous = |name: &str| PyValueError::new_err(format!("{name} must be contiguous"));
+    let inbox =
+        Inbox { nodes: nodes.values()?, counts: counts.values()?, levels: levels.values()? };
+    let not_contiguous = |name: &str| input_error(format!("{name} must be contiguous"));
     let remaining = remaining.as_slice_mut().map_err(|_| not_contiguous("remaining"))?;
     let level = level.as_slice_mut().map_err(|_| not_contiguous("level"))?;
-    let out = compute(py, || peel(&shard, remaining, level, &inbox, seed_zero))?
-        .map_err(|e| to_pyerr(py, e))?;
+    let out = compute(py, || peel(&shard, remaining, level, &inbox, seed_zero))?;
     let offsets: Vec<i64> = out.offsets.iter().map(|&k| k as i64).collect();
-    (
-        out.peeled,
-        out.slots.into_pyarray(py),
-        out.counts.into_pyarray(py),
-        out.levels.into_pyarray(py),
-        offsets.into_pyarray(py),
-    )
-        .into_pyobject(py)
+    Ok(PeelStep {
+        peeled: out.peeled,
+        slots: array(py, out.slots),
+        counts: array(py, out.counts),
+        levels: array(py, out.levels),
+        offsets: array(py, offsets),
+    })
 }
 
-/// `(peeled, slots, counts, levels, offsets)`; updates `remaining` and
-/// `level` in place. Every array has the dtype of `indptr` (int32 or int64)
-/// except `offsets` (int64).
+/// One shard's step; updates `remaining` and `level` in place. Every array
+/// has the dtype of `indptr` (int32 or int64) except `offsets` (int64).
 #[pyfunction]
 #[pyo3(signature = (
     indptr, targets, slot_group, groups, remaining, level,
@@ -92,17 +100,18 @@ fn peel_shard<'py>(
     inbox_counts: &Bound<'py, PyAny>,
     inbox_levels: &Bound<'py, PyAny>,
     seed_zero: bool,
-) -> PyResult<Bound<'py, PyTuple>> {
+) -> PyResult<PeelStep> {
     let inbox = [inbox_nodes, inbox_counts, inbox_levels];
-    if indptr.cast::<PyArray1<i64>>().is_ok() {
+    if has_dtype::<i64>(indptr) {
         run::<i64>(py, indptr, targets, slot_group, groups, remaining, level, inbox, seed_zero)
-    } else if indptr.cast::<PyArray1<i32>>().is_ok() {
+    } else if has_dtype::<i32>(indptr) {
         run::<i32>(py, indptr, targets, slot_group, groups, remaining, level, inbox, seed_zero)
     } else {
-        Err(PyTypeError::new_err("indptr must be a 1-D numpy array of int32 or int64"))
+        Err(input_error("indptr must be a 1-D numpy array of int32 or int64".to_string()))
     }
 }
 
 pub(crate) fn register(m: &Bound<'_, PyModule>) -> PyResult<()> {
+    m.add_class::<PeelStep>()?;
     m.add_function(wrap_pyfunction!(peel_shard, m)?)
 }
