@@ -314,7 +314,7 @@ class PeelStep:
     @property
     def offsets(self) -> np.ndarray: ...
 
-__all__ += ["CsrArrays", "DynamicCore", "Refusal"]
+__all__ += ["DynamicCore", "Refusal"]
 
 @final
 class Refusal:
@@ -345,9 +345,3 @@ class DynamicCore:
     def precedes(self, u: int, v: int) -> bool: ...
     def to_csr(self) -> CsrArrays: ...
 
-@final
-class CsrArrays:
-    @property
-    def indptr(self) -> np.ndarray: ...
-    @property
-    def indices(self) -> np.ndarray: ...

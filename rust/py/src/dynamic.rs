@@ -7,6 +7,7 @@ use toporank_core::Csr;
 
 use crate::common::{compute, on_graph, read, Index, OnGraph};
 use crate::errors::to_py;
+use crate::order::CsrArrays;
 
 fn ids(py: Python<'_>, values: &[usize]) -> Py<PyArray1<i64>> {
     let converted: Vec<i64> = values.iter().map(|&x| x as i64).collect();
@@ -139,17 +140,9 @@ impl DynamicCore {
         Ok(CsrArrays {
             indptr: indptr.into_pyarray(py).into_any().unbind(),
             indices: indices.into_pyarray(py).into_any().unbind(),
+            edge_ids: None,
         })
     }
-}
-
-/// The graph of a [`DynamicCore`] as int64 CSR arrays.
-#[pyclass(module = "toporank._core", frozen)]
-pub(crate) struct CsrArrays {
-    #[pyo3(get)]
-    indptr: Py<PyAny>,
-    #[pyo3(get)]
-    indices: Py<PyAny>,
 }
 
 /// [`DynamicCore::from_csr`] at one index width.
@@ -170,6 +163,5 @@ impl<'py> OnGraph<'py> for FromCsr {
 pub(crate) fn register(m: &Bound<'_, PyModule>) -> PyResult<()> {
     m.add_class::<DynamicCore>()?;
     m.add_class::<Refusal>()?;
-    m.add_class::<CsrArrays>()?;
     Ok(())
 }

@@ -94,14 +94,14 @@ fn kahn_order<'py>(
 
 /// A CSR graph built from an edge list.
 #[pyclass(frozen, module = "toporank._core")]
-struct CsrArrays {
+pub(crate) struct CsrArrays {
     #[pyo3(get)]
-    indptr: Py<PyAny>,
+    pub(crate) indptr: Py<PyAny>,
     #[pyo3(get)]
-    indices: Py<PyAny>,
+    pub(crate) indices: Py<PyAny>,
     /// Input position of each stored edge, when asked for.
     #[pyo3(get)]
-    edge_ids: Option<Py<PyAny>>,
+    pub(crate) edge_ids: Option<Py<PyAny>>,
 }
 
 struct EdgesToCsr {
