@@ -22,6 +22,8 @@ pub mod kahn;
 pub mod levels;
 pub mod metrics;
 pub mod paths;
+#[cfg(test)]
+mod pinned;
 pub mod pool;
 pub mod rng;
 pub mod scc;
