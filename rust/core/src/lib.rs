@@ -6,7 +6,8 @@
 //! successors, so a stored entry `(u, v)` means "u comes before v".
 //!
 //! Every failure that input can cause is reported as an [`Error`]; no
-//! function here panics on user data.
+//! function here panics on user data, nor reads out of bounds when the
+//! caller's arrays change during a call (see [`sweep`]).
 
 pub mod alloc;
 pub mod condense;
@@ -25,6 +26,7 @@ pub mod paths;
 #[cfg(test)]
 mod pinned;
 pub mod pool;
+pub mod ready;
 pub mod rng;
 pub mod scc;
 pub mod schedule;
@@ -37,4 +39,5 @@ pub mod witness;
 pub use csr::Csr;
 pub use error::Error;
 pub use index::Idx;
-pub use kahn::{kahn, kahn_shared, Key, KeyValues, Outcome, Tie};
+pub use kahn::{kahn, kahn_shared, Outcome};
+pub use ready::{Key, KeyValues, Tie};

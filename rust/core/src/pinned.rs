@@ -23,7 +23,7 @@ fn seeded_orders_are_pinned() {
     let random = |g: &Csr<'_, i64>, seed| kahn(g, &Tie::Random { seed }).unwrap().order;
     let scheduled = |seed| {
         let unit = [1i64; 24];
-        match list_schedule(&dag, &unit, 3, &Policy::Random { seed }).unwrap() {
+        match list_schedule(&dag, &unit, 3, &Policy::Tie(Tie::Random { seed })).unwrap() {
             Scheduled::Done(s) => s.order,
             Scheduled::Cyclic(_) => unreachable!("a DAG"),
         }
