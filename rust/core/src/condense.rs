@@ -211,9 +211,9 @@ mod tests {
     use super::*;
     use crate::edges::edges_to_csr;
     use crate::kahn::kahn;
+    use crate::rng::SplitMix64;
     use crate::scc::strong_components;
     use crate::scc::tests::random_csr;
-    use crate::rng::SplitMix64;
     use crate::testing::random_dag;
     use crate::KeyValues;
 

@@ -62,9 +62,9 @@ pub fn critical_path<I: Idx>(
     // Finite weights can still add up past the largest float; a length of
     // infinity would give a truncated path and NaN slack, so name the first
     // node (in order) whose earliest finish overflows instead.
-    if let Some(node) = levels.order.iter().map(|u| u.to_usize()).find(|&u| {
-        !earliest_finish(u).is_finite()
-    }) {
+    if let Some(node) =
+        levels.order.iter().map(|u| u.to_usize()).find(|&u| !earliest_finish(u).is_finite())
+    {
         return Err(Error::Overflow { what: "critical path length", node });
     }
     let mut length = 0.0f64;
@@ -111,7 +111,7 @@ pub fn critical_path<I: Idx>(
         let (start, row) = csr.checked_row_at(u)?;
         let mut latest_finish = length;
         for (offset, v) in row.iter().enumerate() {
-            // SAFETY (settle_backward's contract): successors are settled and
+            // SAFETY: (settle_backward's contract) successors are settled and
             // no worker writes them now; `get` checks the index.
             let next = unsafe { cells.get(v.to_usize()) }?;
             latest_finish = latest_finish.min(next - edge_weight.get(start + offset));
@@ -119,7 +119,7 @@ pub fn critical_path<I: Idx>(
         // Mathematically LS >= ES; the max only absorbs rounding of
         // non-integer weights so slack is never a tiny negative number.
         let latest = (latest_finish - node_weight.get(u)).max(earliest_start[u]);
-        // SAFETY (settle_backward's contract): only this call writes u.
+        // SAFETY: (settle_backward's contract) only this call writes u.
         unsafe { cells.set(u, latest) }
     })?;
     Ok(Ok(Schedule { length, path, earliest_start, latest_start }))

@@ -171,7 +171,9 @@ impl<'a, I: Idx> Csr<'a, I> {
         let mut parts = Vec::with_capacity(counted.len());
         for part in counted {
             parts.push(part.map_err(|position| match position {
-                usize::MAX => Error::Allocation { what: "in-degrees", count: n, bytes_each: size_of::<C>() },
+                usize::MAX => {
+                    Error::Allocation { what: "in-degrees", count: n, bytes_each: size_of::<C>() }
+                }
                 position => self.out_of_range(position),
             })?);
         }

@@ -13,9 +13,9 @@
 //! among them instead of failing, so callers choose what to do.
 
 use crate::csr::Count;
-pub use crate::ready::{Key, KeyValues, Tie};
-use crate::ready::{with_ready, ReadySet, WithReady};
 use crate::interrupt::Ticker;
+use crate::ready::{with_ready, ReadySet, WithReady};
+pub use crate::ready::{Key, KeyValues, Tie};
 use crate::sweep::{prefetch, run_queue};
 use crate::{alloc, Csr, Error, Idx};
 

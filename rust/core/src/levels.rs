@@ -70,12 +70,12 @@ pub fn heights<I: Idx>(
     settle_backward(csr, levels, threads, |u| {
         let mut best = None;
         for v in csr.checked_row(u)? {
-            // SAFETY (settle_backward's contract): successors are settled and
+            // SAFETY: (settle_backward's contract) successors are settled and
             // no worker writes them now; `get` checks the index.
             let h = unsafe { cells.get(v.to_usize()) }?.to_usize() + 1;
             best = Some(best.map_or(h, |b: usize| b.max(h)));
         }
-        // SAFETY (settle_backward's contract): only this call writes u.
+        // SAFETY: (settle_backward's contract) only this call writes u.
         unsafe { cells.set(u, I::from_usize(best.unwrap_or(0))) }
     })?;
     Ok(height)

@@ -9,6 +9,8 @@
 //! function here panics on user data, nor reads out of bounds when the
 //! caller's arrays change during a call (see [`sweep`]).
 
+#![deny(clippy::undocumented_unsafe_blocks)]
+
 pub mod alloc;
 pub mod condense;
 pub mod critical;

@@ -201,8 +201,9 @@ pub(crate) fn count_paths<I: Idx, A: Arithmetic, T: Terms<A>>(
                 let count = terms.start(u, from[u]);
                 from[u] = count;
                 for v in csr.checked_row(u)? {
-                    let slot =
-                        from.get_mut(v.to_usize()).ok_or(Error::InputChanged { what: "indices" })?;
+                    let slot = from
+                        .get_mut(v.to_usize())
+                        .ok_or(Error::InputChanged { what: "indices" })?;
                     *slot = checked(slot.add(count));
                 }
                 Ok(())
@@ -220,17 +221,17 @@ pub(crate) fn count_paths<I: Idx, A: Arithmetic, T: Terms<A>>(
         let (start, row) = csr.checked_row_at(u)?;
         let count = from[u];
         let mut sum = terms.end(u, row.is_empty());
-        // SAFETY (settle_backward's contract): this call alone touches the
+        // SAFETY: (settle_backward's contract) this call alone touches the
         // edges of row u; `range_mut` checks the range.
         let slots = unsafe { through_cells.range_mut(start..start + row.len()) }?;
         for (slot, v) in slots.iter_mut().zip(row) {
-            // SAFETY (settle_backward's contract): successors are settled and
+            // SAFETY: (settle_backward's contract) successors are settled and
             // no worker writes them now; `get` checks the index.
             let t = unsafe { to_cells.get(v.to_usize()) }?;
             sum = checked(sum.add(t));
             *slot = checked(count.mul(t));
         }
-        // SAFETY (settle_backward's contract): only this call writes u.
+        // SAFETY: (settle_backward's contract) only this call writes u.
         unsafe { to_cells.set(u, sum) }
     })?;
     let mut total = A::ZERO;

@@ -15,6 +15,10 @@ const DAG_INDICES: [i64; 11] = [5, 8, 2, 12, 17, 15, 22, 18, 17, 18, 18];
 const CYCLIC: ([i64; 9], [i64; 15]) =
     ([0, 1, 5, 8, 10, 11, 13, 15, 15], [4, 5, 7, 6, 2, 6, 1, 4, 2, 4, 0, 0, 6, 3, 4]);
 
+/// Seed, then its orders: Kahn on the dressing DAG and on the random DAG,
+/// the condensed order of the cyclic graph, a 3-worker unit schedule.
+type Pin = (u64, [i64; 9], [i64; 24], [i64; 8], [i64; 24]);
+
 #[test]
 fn seeded_orders_are_pinned() {
     let dress = Csr::new(&DRESS.0, &DRESS.1).unwrap();
@@ -28,7 +32,7 @@ fn seeded_orders_are_pinned() {
             Scheduled::Cyclic(_) => unreachable!("a DAG"),
         }
     };
-    let pinned: [(u64, [i64; 9], [i64; 24], [i64; 8], [i64; 24]); 4] = [
+    let pinned: [Pin; 4] = [
         (
             0,
             [8, 3, 0, 1, 4, 2, 6, 7, 5],

@@ -165,7 +165,7 @@ pub fn bottom_levels<I: Idx, T: Duration>(
     settle_backward(csr, &levels, 1, |u| {
         let mut below = T::ZERO;
         for &v in csr.checked_row(u)? {
-            // SAFETY (settle_backward's contract): successors are settled and
+            // SAFETY: (settle_backward's contract) successors are settled and
             // no worker writes them now; `get` checks the index.
             let candidate = unsafe { cells.get(v.to_usize()) }?;
             if candidate > below {
@@ -173,7 +173,7 @@ pub fn bottom_levels<I: Idx, T: Duration>(
             }
         }
         // Sums stay below the total work, which was checked above.
-        // SAFETY (settle_backward's contract): only this call writes u.
+        // SAFETY: (settle_backward's contract) only this call writes u.
         unsafe { cells.set(u, durations[u].checked_sum(below).unwrap_or(below)) }
     })?;
     Ok(Ok(level))
@@ -474,7 +474,10 @@ mod tests {
         assert!(err.to_string().contains("duration[1] = NaN"), "{err}");
         let err = list_schedule(&g, &[-3i64, 1], 2, &Policy::Tie(Tie::Queue)).unwrap_err();
         assert!(err.to_string().contains("duration[0] = -3"), "{err}");
-        assert_eq!(list_schedule(&g, &[1i64, 1], 0, &Policy::Tie(Tie::Queue)).unwrap_err(), Error::NoWorkers);
+        assert_eq!(
+            list_schedule(&g, &[1i64, 1], 0, &Policy::Tie(Tie::Queue)).unwrap_err(),
+            Error::NoWorkers
+        );
         assert_eq!(
             list_schedule(&g, &[i64::MAX, 1], 1, &Policy::Tie(Tie::Queue)).unwrap_err(),
             Error::DurationOverflow { total_of: 2 }

@@ -242,19 +242,18 @@ where
     F: FnMut(usize) -> Result<(), Error>,
 {
     let mut ticker = Ticker::new();
-    walk(csr, order.iter(), order.len(), |u| {
+    walk(csr, order.iter(), |u| {
         ticker.tick()?;
         step(u)
     })
 }
 
-/// `step` each node `nodes` yields (`count` of them), fetching the rows a
+/// `step` each node `nodes` yields, fetching the rows a
 /// few nodes ahead (the order is known in advance, as in the FIFO loop).
 #[inline(always)]
 fn walk<'o, I, F>(
     csr: &Csr<'_, I>,
     nodes: impl Iterator<Item = &'o I> + Clone,
-    count: usize,
     mut step: F,
 ) -> Result<(), Error>
 where
@@ -264,7 +263,6 @@ where
     let (indptr, indices) = (csr.indptr(), csr.indices());
     let mut rows_ahead = nodes.clone().skip(ROW_AHEAD);
     let mut edges_ahead = nodes.clone().skip(EDGES_AHEAD);
-    let _ = count;
     for u in nodes {
         if let Some(ahead) = rows_ahead.next() {
             prefetch(indptr.as_ptr().wrapping_add(ahead.to_usize()));
@@ -315,7 +313,7 @@ where
 {
     if !worth_sharing(levels, threads) {
         let mut ticker = Ticker::new();
-        return walk(csr, levels.order.iter().rev(), levels.order.len(), |u| {
+        return walk(csr, levels.order.iter().rev(), |u| {
             ticker.tick()?;
             settle(u)
         });
@@ -323,19 +321,20 @@ where
     let mut ticker = Ticker::new();
     let pool = pool(threads)?;
     for group in levels.offsets.windows(2).rev() {
-        let group = levels.order.get(group[0]..group[1]).ok_or(Error::Internal {
-            reason: "level offsets out of order".into(),
-        })?;
+        let group = levels
+            .order
+            .get(group[0]..group[1])
+            .ok_or(Error::Internal { reason: "level offsets out of order".into() })?;
         // Interrupt checks stay on the calling thread, between levels.
         ticker.tick_by(group.len())?;
         if group.len() < SERIAL_FRONTIER {
-            walk(csr, group.iter(), group.len(), &settle)?;
+            walk(csr, group.iter(), &settle)?;
         } else {
             // Nodes of one level have no edges among them: any split works.
             pool.install(|| {
                 group
                     .par_chunks(SERIAL_FRONTIER)
-                    .try_for_each(|chunk| walk(csr, chunk.iter(), chunk.len(), &settle))
+                    .try_for_each(|chunk| walk(csr, chunk.iter(), &settle))
             })?;
         }
     }

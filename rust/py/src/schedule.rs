@@ -7,7 +7,7 @@ use pyo3::prelude::*;
 use pyo3::types::PyTuple;
 use toporank_core::kahn::Outcome;
 use toporank_core::schedule::{self, Duration, Policy, Scheduled};
-use toporank_core::{Csr, Idx};
+use toporank_core::{Csr, Idx, Key, KeyValues, Tie};
 
 use crate::common::{compute, slice, to_pyerr};
 
@@ -112,10 +112,12 @@ fn list_schedule<'py>(
         .transpose()?;
     let rank = rank.as_ref().map(|r| slice(r, "rank")).transpose()?;
     let policy = match policy {
-        "queue" => Policy::Queue,
-        "stack" => Policy::Stack,
-        "priority" => Policy::Ranked(rank),
-        "random" => Policy::Random { seed },
+        "queue" => Policy::Tie(Tie::Queue),
+        "stack" => Policy::Tie(Tie::Stack),
+        "priority" => {
+            Policy::Tie(Tie::Priority(Key { values: rank.map(KeyValues::U64), descending: false }))
+        }
+        "random" => Policy::Tie(Tie::Random { seed }),
         "critical" => Policy::CriticalPath,
         other => return Err(PyValueError::new_err(format!("unknown policy {other:?}"))),
     };

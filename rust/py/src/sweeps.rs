@@ -57,11 +57,14 @@ fn levels<'py>(
         let (indptr, indices) = (slice(&indptr, "indptr")?, slice(&indices, "indices")?);
         let swept = compute(py, || {
             let csr = Csr::<I>::new(indptr, indices)?;
-            Ok(level_sweep::level_order(&csr, threads)?.map(|order| {
-                let level = level_sweep::levels_from(&order, threads);
-                let nodes = grouped.then(|| level_sweep::grouped(&level, &order.offsets));
-                (level, nodes, offsets_array(&order.offsets))
-            }))
+            match level_sweep::level_order(&csr, threads)? {
+                Ok(order) => {
+                    let level = level_sweep::levels_from(&order, threads)?;
+                    let nodes = grouped.then(|| level_sweep::grouped(&level, &order.offsets));
+                    Ok(Ok((level, nodes, offsets_array(&order.offsets))))
+                }
+                Err(cyclic) => Ok(Err(cyclic)),
+            }
         })?
         .map_err(|e| to_pyerr(py, e))?;
         let (cyclic, value) = split(py, swept)?;
