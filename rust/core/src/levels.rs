@@ -44,15 +44,15 @@ pub fn levels_from<I: Idx>(levels: &LevelOrder<I>, threads: usize) -> Result<Vec
 }
 
 /// All nodes sorted by `(level, id)`, with `offsets` as in [`LevelOrder`].
-pub fn grouped<I: Idx>(level: &[I], offsets: &[usize]) -> Vec<I> {
+pub fn grouped<I: Idx>(level: &[I], offsets: &[usize]) -> Result<Vec<I>, Error> {
     let mut cursor = offsets.to_vec();
-    let mut nodes = vec![I::default(); level.len()];
+    let mut nodes = alloc::filled("grouped levels", level.len(), I::default())?;
     for (v, k) in level.iter().enumerate() {
         let slot = &mut cursor[k.to_usize()];
         nodes[*slot] = I::from_usize(v);
         *slot += 1;
     }
-    nodes
+    Ok(nodes)
 }
 
 /// The longest path (in edges) from every node to any sink, given the
@@ -123,7 +123,7 @@ mod tests {
                 let level = levels_from(&lo, threads).unwrap();
                 assert_eq!(level, expected, "threads = {threads}");
                 assert_eq!(heights(&csr, &lo, threads).unwrap(), reversed);
-                let nodes = grouped(&level, &lo.offsets);
+                let nodes = grouped(&level, &lo.offsets).unwrap();
                 for w in lo.offsets.windows(2) {
                     let group = &nodes[w[0]..w[1]];
                     assert!(group.windows(2).all(|p| p[0] < p[1]));

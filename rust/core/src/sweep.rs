@@ -78,43 +78,50 @@ pub(crate) fn run_queue<I: Idx, C: Count, H: FifoHooks>(
     if indegree.len() != n || !order.is_empty() {
         return Err(Error::Internal { reason: "run_queue: bad buffers".into() });
     }
-    order.reserve_exact(n);
+    // A slice of n slots with the tail kept in a register: the bounds check
+    // of each write (`tail < n`) is also the check that no node is queued
+    // twice, which only a changed input could cause.
+    order.resize(n, I::default());
+    let queue = order.as_mut_slice();
     let (indptr, indices) = (csr.indptr(), csr.indices());
     let changed = |what| Err(Error::InputChanged { what });
+    let mut tail = 0usize;
     for (v, d) in indegree.iter().enumerate() {
         if d.is_zero() {
-            order.push(I::from_usize(v));
+            queue[tail] = I::from_usize(v);
+            tail += 1;
         }
     }
     let mut ticker = Ticker::new();
     let mut head = 0usize;
-    while let Some(&u) = order.get(head) {
-        if let Some(ahead) = order.get(head + ROW_AHEAD) {
+    while head < tail {
+        if let Some(ahead) = queue.get(head + ROW_AHEAD) {
             prefetch(indptr.as_ptr().wrapping_add(ahead.to_usize()));
         }
-        if let Some(start) = order.get(head + EDGES_AHEAD).and_then(|a| indptr.get(a.to_usize())) {
+        if let Some(start) = queue.get(head + EDGES_AHEAD).and_then(|a| indptr.get(a.to_usize())) {
             prefetch(indices.as_ptr().wrapping_add(start.to_usize()));
         }
         // Queued ids are all below n (they passed `indegree.get_mut`).
-        let u = u.to_usize();
-        hooks.emit(head, u, order.len());
+        let u = queue[head].to_usize();
+        hooks.emit(head, u, tail);
         head += 1;
         let (start, row) = csr.checked_row_at(u)?;
-        ticker.tick_by(row.len() + 1)?;
+        ticker.tick()?;
         for (offset, &v) in row.iter().enumerate() {
             let Some(count) = indegree.get_mut(v.to_usize()) else {
                 return changed("indices");
             };
             hooks.edge(u, start + offset, v.to_usize());
             if count.decrement() {
-                // Each node turns ready once while the input holds still.
-                if order.len() == n {
+                let Some(slot) = queue.get_mut(tail) else {
                     return changed("indices");
-                }
-                order.push(v);
+                };
+                *slot = v;
+                tail += 1;
             }
         }
     }
+    order.truncate(tail);
     Ok(())
 }
 

@@ -60,7 +60,10 @@ fn levels<'py>(
             match level_sweep::level_order(&csr, threads)? {
                 Ok(order) => {
                     let level = level_sweep::levels_from(&order, threads)?;
-                    let nodes = grouped.then(|| level_sweep::grouped(&level, &order.offsets));
+                    let nodes = match grouped {
+                        true => Some(level_sweep::grouped(&level, &order.offsets)?),
+                        false => None,
+                    };
                     Ok(Ok((level, nodes, offsets_array(&order.offsets))))
                 }
                 Err(cyclic) => Ok(Err(cyclic)),
