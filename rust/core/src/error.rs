@@ -111,7 +111,7 @@ impl fmt::Display for Error {
             Error::Overflow { what, node } => write!(
                 f,
                 "the {what} overflows at node {node}: the weights along a path to it add \
-                 up to more than {}, the largest float64",
+                 up to more than {:e}, the largest float64",
                 f64::MAX
             ),
             Error::Internal { reason } => {
