@@ -92,7 +92,7 @@ impl<'a, I: Idx> Csr<'a, I> {
     #[inline(always)]
     pub fn checked_row_at(&self, u: usize) -> Result<(usize, &'a [I]), Error> {
         let changed = || Error::InputChanged { what: "indptr" };
-        let (Some(start), Some(end)) = (self.indptr.get(u), self.indptr.get(u + 1)) else {
+        let Some(&[start, end]) = self.indptr.get(u..u.wrapping_add(2)) else {
             return Err(changed());
         };
         let start = start.to_usize();
@@ -123,7 +123,7 @@ impl<'a, I: Idx> Csr<'a, I> {
         if self.m() > C::MAX {
             return Err(Error::TooLarge { what: "edge count", count: self.m(), max: C::MAX });
         }
-        let mut indegree = crate::alloc::filled("in-degrees", self.n(), C::ZERO)?;
+        let mut indegree: Vec<C> = crate::alloc::zeroed("in-degrees", self.n())?;
         for (position, v) in self.indices.iter().enumerate() {
             match indegree.get_mut(v.to_usize()) {
                 Some(slot) => slot.increment(),
@@ -155,7 +155,7 @@ impl<'a, I: Idx> Csr<'a, I> {
                 .par_chunks(share)
                 .enumerate()
                 .map(|(part, chunk)| {
-                    let Ok(mut counts) = crate::alloc::filled("in-degrees", n, C::ZERO) else {
+                    let Ok(mut counts) = crate::alloc::zeroed::<C>("in-degrees", n) else {
                         return Err(usize::MAX);
                     };
                     for (offset, v) in chunk.iter().enumerate() {
@@ -190,7 +190,7 @@ impl<'a, I: Idx> Csr<'a, I> {
     /// every endpoint on the way.
     pub fn in_degrees(&self) -> Result<Vec<I>, Error> {
         // Counts fit I: each is at most m, and m fits I because indptr does.
-        let mut indegree = crate::alloc::filled("in-degrees", self.n(), I::default())?;
+        let mut indegree: Vec<I> = crate::alloc::zeroed("in-degrees", self.n())?;
         for (position, v) in self.indices.iter().enumerate() {
             match indegree.get_mut(v.to_usize()) {
                 Some(slot) => *slot = I::from_usize(slot.to_usize() + 1),
@@ -204,7 +204,7 @@ impl<'a, I: Idx> Csr<'a, I> {
 /// An unsigned counter for remaining in-degrees (or any per-node count of
 /// edges still to come): `u32` whenever the edge count allows, which halves
 /// the memory traffic of 64-bit counts on the hot path.
-pub trait Count: Copy + Send + Sync + 'static {
+pub trait Count: crate::alloc::ZeroBits + Copy + Send + Sync + 'static {
     const ZERO: Self;
     const MAX: usize;
     /// `value` must be at most `MAX`.

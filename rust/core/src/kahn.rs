@@ -69,10 +69,11 @@ fn run_policy<I: Idx, C: Count>(
         values.check(n)?;
     }
     let mut indegree: Vec<C> = csr.in_degree_counts_shared(threads)?;
-    let mut order: Vec<I> = alloc::with_capacity("order", n)?;
+    let mut order: Vec<I> = Vec::new();
     if let Tie::Queue = tie {
         run_queue(csr, &mut indegree, &mut order, &mut ())?;
     } else {
+        order = alloc::with_capacity("order", n)?;
         let work = Loop { csr, indegree: &mut indegree, order: &mut order };
         with_ready(tie, n, n, 0, work)??;
     }

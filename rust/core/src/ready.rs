@@ -28,7 +28,7 @@
 
 use crate::heap::QuadHeap;
 use crate::rng::SplitMix64;
-use crate::{alloc, Error};
+use crate::Error;
 
 /// Per-node priority values, indexed by node id.
 #[derive(Debug, Clone, Copy)]
@@ -334,7 +334,7 @@ pub fn with_ready<W: WithReady>(
     work: W,
 ) -> Result<W::Output, Error> {
     Ok(match *tie {
-        Tie::Queue => work.run(Queue { items: alloc::with_capacity("ready set", items)?, head: 0 }),
+        Tie::Queue => work.run(Queue::default()),
         Tie::Stack => work.run(Stack::default()),
         Tie::Random { seed } => work.run(RandomPick::new(seed)),
         Tie::Priority(Key { values: None, descending }) => {

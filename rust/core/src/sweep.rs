@@ -65,7 +65,7 @@ impl FifoHooks for () {}
 /// prefix of it, ready nodes the rest), so no second buffer is needed.
 ///
 /// `indegree` holds the in-degree of each of the `n` nodes (from
-/// [`Csr::in_degree_counts`]); `order` must be empty. Stops early, with
+/// [`Csr::in_degree_counts`]); `order` is replaced. Stops early, with
 /// [`Error::InputChanged`], if the arrays change under it, and with
 /// [`Error::Interrupted`] on a stop request.
 pub(crate) fn run_queue<I: Idx, C: Count, H: FifoHooks>(
@@ -75,13 +75,14 @@ pub(crate) fn run_queue<I: Idx, C: Count, H: FifoHooks>(
     hooks: &mut H,
 ) -> Result<(), Error> {
     let n = csr.n();
-    if indegree.len() != n || !order.is_empty() {
+    if indegree.len() != n {
         return Err(Error::Internal { reason: "run_queue: bad buffers".into() });
     }
     // A slice of n slots with the tail kept in a register: the bounds check
     // of each write (`tail < n`) is also the check that no node is queued
-    // twice, which only a changed input could cause.
-    order.resize(n, I::default());
+    // twice, which only a changed input could cause. Zeroed memory, so the
+    // slots cost nothing until written.
+    *order = alloc::zeroed("order", n)?;
     let queue = order.as_mut_slice();
     let (indptr, indices) = (csr.indptr(), csr.indices());
     let changed = |what| Err(Error::InputChanged { what });
@@ -221,7 +222,7 @@ where
 {
     let n = csr.n();
     let mut indegree: Vec<K> = csr.in_degree_counts()?;
-    let mut order: Vec<I> = alloc::with_capacity("order", n)?;
+    let mut order: Vec<I> = Vec::new();
     let values = alloc::filled("sweep values", n, init)?;
     let mut sweep = Sweep { values, passed: None, offsets: vec![0], level_end: 0, emit, visit };
     run_queue(csr, &mut indegree, &mut order, &mut sweep)?;
@@ -495,6 +496,35 @@ mod tests {
             fifo_sweep(&bad, (), |_, _| (), |_, _, _, _| {}),
             Err(Error::IndexOutOfRange { value: 4, .. })
         ));
+    }
+
+    #[test]
+    fn wide_levels_are_shared_and_give_the_serial_result() {
+        // Three layers of 30 000 nodes, each node with two edges into the
+        // next layer: wide enough that the backward pass goes to the pool.
+        let width = 30_000i64;
+        let (mut src, mut dst) = (Vec::new(), Vec::new());
+        for layer in 0..2 {
+            for k in 0..width {
+                let u = layer * width + k;
+                src.extend([u, u]);
+                dst.extend([(layer + 1) * width + k, (layer + 1) * width + (k * 7 + 1) % width]);
+            }
+        }
+        let n = 3 * width as usize;
+        let g = edges_to_csr(&src, &dst, n, false).unwrap();
+        let csr = Csr::new(&g.indptr, &g.indices).unwrap();
+        let levels = crate::levels::level_order(&csr, 1).unwrap().unwrap();
+        assert!(worth_sharing(&levels, 2) && !worth_sharing(&levels, 1));
+        let one = crate::levels::heights(&csr, &levels, 1).unwrap();
+        assert_eq!(crate::levels::heights(&csr, &levels, 2).unwrap(), one);
+        // By construction: layer 0 has height 2, layer 1 height 1, layer 2 sinks.
+        let layer = |v: usize| v / width as usize;
+        assert!(one.iter().enumerate().all(|(v, &h)| h as usize == 2 - layer(v)));
+        let counts = crate::paths::path_counts(&csr, 1).unwrap().unwrap();
+        assert_eq!(crate::paths::path_counts(&csr, 2).unwrap().unwrap(), counts);
+        // Every source starts 2 * 2 paths (two choices per step).
+        assert_eq!(counts.total, 4.0 * width as f64);
     }
 
     #[test]
