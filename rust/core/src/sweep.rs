@@ -78,32 +78,45 @@ pub(crate) fn run_queue<I: Idx, C: Count, H: FifoHooks>(
     if indegree.len() != n {
         return Err(Error::Internal { reason: "run_queue: bad buffers".into() });
     }
-    // A slice of n slots with the tail kept in a register: the bounds check
-    // of each write (`tail < n`) is also the check that no node is queued
-    // twice, which only a changed input could cause. Zeroed memory, so the
-    // slots cost nothing until written.
-    *order = alloc::zeroed("order", n)?;
-    let queue = order.as_mut_slice();
+    // The queue is the spare capacity of `order`: slots `..tail` are
+    // written, the rest untouched (no up-front fill: on repeated calls the
+    // allocator hands back dirty memory that zeroing would have to clear).
+    // The bounds check of each write (`tail < n`) is also the check that no
+    // node is queued twice, which only a changed input could cause.
+    *order = alloc::with_capacity("order", n)?;
+    let Some(queue) = order.spare_capacity_mut().get_mut(..n) else {
+        return Err(Error::Internal { reason: "run_queue: short buffer".into() });
+    };
     let (indptr, indices) = (csr.indptr(), csr.indices());
     let changed = |what| Err(Error::InputChanged { what });
     let mut tail = 0usize;
     for (v, d) in indegree.iter().enumerate() {
         if d.is_zero() {
-            queue[tail] = I::from_usize(v);
-            tail += 1;
+            if let Some(slot) = queue.get_mut(tail) {
+                slot.write(I::from_usize(v));
+                tail += 1;
+            }
         }
     }
+    // Invariant: `queue[..tail]` is initialised (`tail` grows only right
+    // after a write), and `tail <= n`.
+    let written = |queue: &[std::mem::MaybeUninit<I>], at: usize, tail: usize| {
+        // SAFETY: `at < tail`, and every slot below `tail` was written.
+        (at < tail).then(|| unsafe { queue[at].assume_init_read() })
+    };
     let mut ticker = Ticker::new();
     let mut head = 0usize;
-    while head < tail {
-        if let Some(ahead) = queue.get(head + ROW_AHEAD) {
+    while let Some(u) = written(queue, head, tail) {
+        if let Some(ahead) = written(queue, head + ROW_AHEAD, tail) {
             prefetch(indptr.as_ptr().wrapping_add(ahead.to_usize()));
         }
-        if let Some(start) = queue.get(head + EDGES_AHEAD).and_then(|a| indptr.get(a.to_usize())) {
+        if let Some(start) =
+            written(queue, head + EDGES_AHEAD, tail).and_then(|a| indptr.get(a.to_usize()))
+        {
             prefetch(indices.as_ptr().wrapping_add(start.to_usize()));
         }
         // Queued ids are all below n (they passed `indegree.get_mut`).
-        let u = queue[head].to_usize();
+        let u = u.to_usize();
         hooks.emit(head, u, tail);
         head += 1;
         let (start, row) = csr.checked_row_at(u)?;
@@ -117,12 +130,14 @@ pub(crate) fn run_queue<I: Idx, C: Count, H: FifoHooks>(
                 let Some(slot) = queue.get_mut(tail) else {
                     return changed("indices");
                 };
-                *slot = v;
+                slot.write(v);
                 tail += 1;
             }
         }
     }
-    order.truncate(tail);
+    // SAFETY: the first `tail` slots are initialised (the invariant above)
+    // and `tail <= n <= capacity`.
+    unsafe { order.set_len(tail) };
     Ok(())
 }
 
