@@ -17,120 +17,17 @@
 //! On a DAG every component is a single node, so the result equals
 //! [`crate::kahn`]'s order for the same policy.
 
-use std::cmp::Reverse;
-use std::collections::BinaryHeap;
-
-use crate::kahn::check_key;
-use crate::rng::SplitMix64;
+use crate::csr::Count;
+use crate::interrupt::Ticker;
+use crate::ready::{with_ready, ReadySet, WithReady};
 use crate::scc::strong_components_with_entries;
-use crate::{Csr, Error, Idx, Key, Tie};
+use crate::{alloc, Csr, Error, Idx, Key, Tie};
 
-/// The ready set of one policy. An item is a component's representative
-/// node `r` tagged as `2 r + 1` when the component has several members and
-/// `2 r` when it is that node alone, so a lone node is emitted without
-/// looking anything up.
-trait Ready {
-    fn push(&mut self, item: usize);
-    fn pop(&mut self) -> Option<usize>;
-}
-
-struct Fifo {
-    items: Vec<usize>,
-    head: usize,
-}
-
-impl Ready for Fifo {
-    #[inline]
-    fn push(&mut self, item: usize) {
-        self.items.push(item)
-    }
-    #[inline]
-    fn pop(&mut self) -> Option<usize> {
-        let item = self.items.get(self.head).copied();
-        self.head += item.is_some() as usize;
-        item
-    }
-}
-
-impl Ready for Vec<usize> {
-    #[inline]
-    fn push(&mut self, item: usize) {
-        Vec::push(self, item)
-    }
-    #[inline]
-    fn pop(&mut self) -> Option<usize> {
-        Vec::pop(self)
-    }
-}
-
-/// Smallest (rank, representative) first; the tag does not change the
-/// order of distinct representatives.
-struct ByRank<'a> {
-    heap: BinaryHeap<Reverse<(u64, usize)>>,
-    rank: &'a dyn Fn(usize) -> u64,
-}
-
-impl Ready for ByRank<'_> {
-    #[inline]
-    fn push(&mut self, item: usize) {
-        self.heap.push(Reverse(((self.rank)(item >> 1), item)))
-    }
-    #[inline]
-    fn pop(&mut self) -> Option<usize> {
-        self.heap.pop().map(|Reverse((_, item))| item)
-    }
-}
-
-/// Uniform pick, drawn exactly as the node-level random policy draws.
-struct RandomPick {
-    items: Vec<usize>,
-    rng: SplitMix64,
-}
-
-impl Ready for RandomPick {
-    #[inline]
-    fn push(&mut self, item: usize) {
-        self.items.push(item)
-    }
-    #[inline]
-    fn pop(&mut self) -> Option<usize> {
-        if self.items.is_empty() {
-            return None;
-        }
-        let pick = self.rng.below(self.items.len() as u64) as usize;
-        Some(self.items.swap_remove(pick))
-    }
-}
-
-/// A per-node count of edges still to come, stored doubled with the low bit
-/// marking members of multi-node components. u32 halves the memory traffic
-/// whenever the edge count allows.
-trait Counter: Copy + Send {
-    fn new(value: usize) -> Self;
-    fn get(self) -> usize;
-}
-
-impl Counter for u32 {
-    #[inline(always)]
-    fn new(value: usize) -> Self {
-        value as u32
-    }
-    #[inline(always)]
-    fn get(self) -> usize {
-        self as usize
-    }
-}
-
-impl Counter for u64 {
-    #[inline(always)]
-    fn new(value: usize) -> Self {
-        value as u64
-    }
-    #[inline(always)]
-    fn get(self) -> usize {
-        self as usize
-    }
-}
+/// Ready items are a component's representative node `r` tagged as `2 r + 1`
+/// when the component has several members and `2 r` when it is that node
+/// alone, so a lone node is emitted without looking anything up; the ready
+/// set keys an item by its node `item >> 1`.
+const TAG_SHIFT: u32 = 1;
 
 /// Every node of `csr` in an order where each strongly connected component
 /// is contiguous and the components follow Kahn's algorithm on the
@@ -140,7 +37,7 @@ impl Counter for u64 {
 pub fn condensed_order<I: Idx>(csr: &Csr<'_, I>, tie: &Tie<'_>) -> Result<Vec<I>, Error> {
     let n = csr.n();
     if let Tie::Priority(Key { values: Some(values), .. }) = tie {
-        check_key(values, n)?;
+        values.check(n)?;
     }
     let (components, entered) = strong_components_with_entries(csr)?;
     if 2 * csr.m() < u32::MAX as usize {
@@ -150,7 +47,7 @@ pub fn condensed_order<I: Idx>(csr: &Csr<'_, I>, tie: &Tie<'_>) -> Result<Vec<I>
     }
 }
 
-fn run_policy<I: Idx, W: Counter>(
+fn run_policy<I: Idx, W: Count>(
     csr: &Csr<'_, I>,
     tie: &Tie<'_>,
     labels: Vec<I>,
@@ -171,7 +68,10 @@ fn run_policy<I: Idx, W: Counter>(
             _ => node as u64,
         }
     };
-    let mut waiting: Vec<W> = entered.iter().map(|e| W::new(2 * e.to_usize())).collect();
+    // A per-node count of edges still to come, stored doubled with the low
+    // bit marking members of multi-node components.
+    let mut waiting: Vec<W> = alloc::with_capacity("condensed order", n)?;
+    waiting.extend(entered.iter().map(|e| W::from_usize(2 * e.to_usize())));
     drop(entered);
     for c in 0..count {
         let block = &mut members[start[c]..start[c + 1]];
@@ -181,32 +81,32 @@ fn run_policy<I: Idx, W: Counter>(
             }
             for v in block.iter() {
                 let slot = &mut waiting[v.to_usize()];
-                *slot = W::new(slot.get() | 1);
+                *slot = W::from_usize(slot.to_usize() | 1);
             }
         }
     }
 
-    let mut order = Vec::with_capacity(n);
+    let mut order = alloc::with_capacity("order", n)?;
     let emit = Emit { csr, labels: &labels, start: &start, members: &members };
-    match *tie {
-        Tie::Queue => emit.run(
-            &mut waiting,
-            &mut Fifo { items: Vec::with_capacity(count), head: 0 },
-            &mut order,
-        ),
-        Tie::Stack => emit.run(&mut waiting, &mut Vec::new(), &mut order),
-        Tie::Priority(_) => {
-            let mut ready = ByRank { heap: BinaryHeap::new(), rank: &rank };
-            emit.run(&mut waiting, &mut ready, &mut order)
-        }
-        Tie::Random { seed } => emit.run(
-            &mut waiting,
-            &mut RandomPick { items: Vec::new(), rng: SplitMix64::new(seed) },
-            &mut order,
-        ),
+    let work = Run { emit, waiting: &mut waiting, order: &mut order };
+    with_ready(tie, n, 2 * n, TAG_SHIFT, work)??;
+    if order.len() != n {
+        return Err(Error::InputChanged { what: "indices" });
     }
-    debug_assert_eq!(order.len(), n, "the condensation is acyclic");
     Ok(order)
+}
+
+struct Run<'a, 'g, I: Idx, W> {
+    emit: Emit<'a, 'g, I>,
+    waiting: &'a mut [W],
+    order: &'a mut Vec<I>,
+}
+
+impl<I: Idx, W: Count> WithReady for Run<'_, '_, I, W> {
+    type Output = Result<(), Error>;
+    fn run<R: ReadySet>(self, mut ready: R) -> Result<(), Error> {
+        self.emit.run(self.waiting, &mut ready, self.order)
+    }
 }
 
 struct Emit<'a, 'g, I: Idx> {
@@ -222,18 +122,23 @@ impl<I: Idx> Emit<'_, '_, I> {
     /// ready once all its members are at zero. An edge whose target is at
     /// zero already lies inside the component being emitted (its members
     /// were all at zero when it became ready), so edges need no label lookup.
-    fn run<W: Counter, R: Ready>(&self, waiting: &mut [W], ready: &mut R, order: &mut Vec<I>) {
+    fn run<W: Count, R: ReadySet>(
+        &self,
+        waiting: &mut [W],
+        ready: &mut R,
+        order: &mut Vec<I>,
+    ) -> Result<(), Error> {
         let count = self.start.len() - 1;
         // pending[c]: members of a multi-node component c still waiting.
-        let mut pending = vec![0usize; count];
+        let mut pending = alloc::filled("condensed order", count, 0usize)?;
         for (v, w) in waiting.iter().enumerate() {
-            if w.get() > 1 && w.get() & 1 == 1 {
+            if w.to_usize() > 1 && w.to_usize() & 1 == 1 {
                 pending[self.labels[v].to_usize()] += 1;
             }
         }
         // Ascending representative id (the first member of a component).
         for (u, w) in waiting.iter().enumerate() {
-            let w = w.get();
+            let w = w.to_usize();
             if w == 0 {
                 ready.push(2 * u);
             } else if w == 1 {
@@ -243,49 +148,61 @@ impl<I: Idx> Emit<'_, '_, I> {
                 }
             }
         }
+        let mut ticker = Ticker::new();
         while let Some(item) = ready.pop() {
             if item & 1 == 0 {
                 let u = item >> 1;
                 order.push(I::from_usize(u));
-                self.examine(u, waiting, &mut pending, ready);
+                self.examine(u, waiting, &mut pending, ready, &mut ticker)?;
             } else {
                 let c = self.labels[item >> 1].to_usize();
                 let block = &self.members[self.start[c]..self.start[c + 1]];
                 order.extend_from_slice(block);
                 for &u in block {
-                    self.examine(u.to_usize(), waiting, &mut pending, ready);
+                    self.examine(u.to_usize(), waiting, &mut pending, ready, &mut ticker)?;
                 }
             }
+            if order.len() > waiting.len() {
+                return Err(Error::InputChanged { what: "indices" });
+            }
         }
+        Ok(())
     }
 
     /// Examine the successors of an emitted node in stored row order.
     #[inline(always)]
-    fn examine<W: Counter, R: Ready>(
+    fn examine<W: Count, R: ReadySet>(
         &self,
         u: usize,
         waiting: &mut [W],
         pending: &mut [usize],
         ready: &mut R,
-    ) {
-        for &v in self.csr.row(u) {
+        ticker: &mut Ticker,
+    ) -> Result<(), Error> {
+        let row = self.csr.checked_row(u)?;
+        ticker.tick_by(row.len() + 1)?;
+        for &v in row {
             let v = v.to_usize();
-            let left = waiting[v].get();
+            let Some(slot) = waiting.get_mut(v) else {
+                return Err(Error::InputChanged { what: "indices" });
+            };
+            let left = slot.to_usize();
             if left < 2 {
                 continue;
             }
             let left = left - 2;
-            waiting[v] = W::new(left);
+            *slot = W::from_usize(left);
             if left == 0 {
                 ready.push(2 * v);
             } else if left == 1 {
                 let d = self.labels[v].to_usize();
-                pending[d] -= 1;
+                pending[d] = pending[d].wrapping_sub(1);
                 if pending[d] == 0 {
                     ready.push(2 * self.members[self.start[d]].to_usize() + 1);
                 }
             }
         }
+        Ok(())
     }
 }
 
@@ -294,6 +211,7 @@ mod tests {
     use super::*;
     use crate::edges::edges_to_csr;
     use crate::kahn::kahn;
+    use crate::rng::SplitMix64;
     use crate::scc::strong_components;
     use crate::scc::tests::random_csr;
     use crate::testing::random_dag;

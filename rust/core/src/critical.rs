@@ -11,7 +11,7 @@
 //! * slack (total float) `LS - ES`, zero exactly on the longest paths.
 
 use crate::sweep::{fifo_sweep, settle_backward, Acyclic, Disjoint, Weights};
-use crate::{Csr, Error, Idx};
+use crate::{alloc, Csr, Error, Idx};
 
 /// The critical-path quantities of a DAG.
 #[derive(Debug, Clone, PartialEq)]
@@ -59,6 +59,14 @@ pub fn critical_path<I: Idx>(
         Err(cyclic) => return Ok(Err(cyclic)),
     };
     let earliest_finish = |u: usize| earliest_start[u] + node_weight.get(u);
+    // Finite weights can still add up past the largest float; a length of
+    // infinity would give a truncated path and NaN slack, so name the first
+    // node (in order) whose earliest finish overflows instead.
+    if let Some(node) =
+        levels.order.iter().map(|u| u.to_usize()).find(|&u| !earliest_finish(u).is_finite())
+    {
+        return Err(Error::Overflow { what: "critical path length", node });
+    }
     let mut length = 0.0f64;
     let mut end = NONE;
     for u in 0..n {
@@ -72,14 +80,16 @@ pub fn critical_path<I: Idx>(
     // pass in id order (so the first found is the smallest id) rather than
     // tracked during the sweep, where ties made it cost more than this pass.
     // The sums repeat the sweep's exactly, so equality is exact.
-    let mut pred = vec![NONE; n];
+    let mut pred = alloc::filled("critical path", n, NONE)?;
     for u in 0..n {
         let finish = earliest_finish(u);
-        let range = csr.row_range(u);
-        let start = range.start;
-        for (offset, v) in csr.indices()[range].iter().enumerate() {
+        let (start, row) = csr.checked_row_at(u)?;
+        for (offset, v) in row.iter().enumerate() {
             let v = v.to_usize();
-            if finish + edge_weight.get(start + offset) == earliest_start[v] && pred[v] == NONE {
+            let Some(&earliest) = earliest_start.get(v) else {
+                return Err(Error::InputChanged { what: "indices" });
+            };
+            if finish + edge_weight.get(start + offset) == earliest && pred[v] == NONE {
                 pred[v] = u;
             }
         }
@@ -87,27 +97,30 @@ pub fn critical_path<I: Idx>(
     let mut path = Vec::new();
     let mut at = end;
     while at != NONE {
+        if path.len() == n {
+            return Err(Error::InputChanged { what: "indices" });
+        }
         path.push(I::from_usize(at));
         at = pred[at];
     }
     path.reverse();
 
-    let mut latest_start = vec![0.0f64; n];
+    let mut latest_start = alloc::filled("latest starts", n, 0.0f64)?;
     let cells = Disjoint::new(&mut latest_start);
     settle_backward(csr, &levels, threads, |u| {
-        let range = csr.row_range(u);
-        let start = range.start;
+        let (start, row) = csr.checked_row_at(u)?;
         let mut latest_finish = length;
-        for (offset, v) in csr.indices()[range].iter().enumerate() {
-            // SAFETY (settle_backward's contract): successors are settled.
-            let next = unsafe { cells.get(v.to_usize()) };
+        for (offset, v) in row.iter().enumerate() {
+            // SAFETY: (settle_backward's contract) successors are settled and
+            // no worker writes them now; `get` checks the index.
+            let next = unsafe { cells.get(v.to_usize()) }?;
             latest_finish = latest_finish.min(next - edge_weight.get(start + offset));
         }
         // Mathematically LS >= ES; the max only absorbs rounding of
         // non-integer weights so slack is never a tiny negative number.
         let latest = (latest_finish - node_weight.get(u)).max(earliest_start[u]);
-        // SAFETY (settle_backward's contract): only this call writes u.
-        unsafe { cells.set(u, latest) };
+        // SAFETY: (settle_backward's contract) only this call writes u.
+        unsafe { cells.set(u, latest) }
     })?;
     Ok(Ok(Schedule { length, path, earliest_start, latest_start }))
 }
@@ -230,5 +243,21 @@ mod tests {
         let bad = [-1.0];
         let e = critical_path(&csr, Weights::Constant(0.0), Weights::Each(&bad), 1).unwrap_err();
         assert_eq!(e.to_string(), "edge_weight[0] = -1; weights must be finite and non-negative");
+    }
+
+    #[test]
+    fn finite_weights_whose_sum_overflows_are_an_error() {
+        // 3 * 1e308 exceeds the largest float64, about 1.797e308 (IEEE 754).
+        let chain = Csr::new(&[0i32, 1, 2, 2], &[1, 2]).unwrap();
+        let huge = [1e308; 3];
+        let e = critical_path(&chain, Weights::Each(&huge), Weights::Constant(0.0), 2).unwrap_err();
+        assert_eq!(e, Error::Overflow { what: "critical path length", node: 1 });
+        assert!(e.to_string().contains("node 1"), "{e}");
+        let lag = [f64::MAX];
+        let pair = Csr::new(&[0i32, 1, 1], &[1]).unwrap();
+        let e = critical_path(&pair, Weights::Constant(f64::MAX), Weights::Each(&lag), 1);
+        assert_eq!(e.unwrap_err(), Error::Overflow { what: "critical path length", node: 1 });
+        let ok = critical_path(&chain, Weights::Each(&[5e307; 3]), Weights::Constant(0.0), 1);
+        assert_eq!(ok.unwrap().unwrap().length, 1.5e308);
     }
 }

@@ -75,6 +75,30 @@ impl<'a, I: Idx> Csr<'a, I> {
         &self.indices[self.row_range(u)]
     }
 
+    /// The successors of `u`, or [`Error::InputChanged`] when `indptr` no
+    /// longer describes a row inside `indices` (checked once by
+    /// [`Csr::new`], it may still change under a caller that breaks the
+    /// no-mutation contract): never an out-of-bounds read.
+    #[inline(always)]
+    pub fn checked_row(&self, u: usize) -> Result<&'a [I], Error> {
+        let changed = || Error::InputChanged { what: "indptr" };
+        let (Some(start), Some(end)) = (self.indptr.get(u), self.indptr.get(u + 1)) else {
+            return Err(changed());
+        };
+        self.indices.get(start.to_usize()..end.to_usize()).ok_or_else(changed)
+    }
+
+    /// [`Csr::checked_row`] with the row's first edge position.
+    #[inline(always)]
+    pub fn checked_row_at(&self, u: usize) -> Result<(usize, &'a [I]), Error> {
+        let changed = || Error::InputChanged { what: "indptr" };
+        let Some(&[start, end]) = self.indptr.get(u..u.wrapping_add(2)) else {
+            return Err(changed());
+        };
+        let start = start.to_usize();
+        Ok((start, self.indices.get(start..end.to_usize()).ok_or_else(changed)?))
+    }
+
     fn out_of_range(&self, position: usize) -> Error {
         Error::IndexOutOfRange {
             what: "indices",
@@ -99,7 +123,7 @@ impl<'a, I: Idx> Csr<'a, I> {
         if self.m() > C::MAX {
             return Err(Error::TooLarge { what: "edge count", count: self.m(), max: C::MAX });
         }
-        let mut indegree = vec![C::ZERO; self.n()];
+        let mut indegree: Vec<C> = crate::alloc::zeroed("in-degrees", self.n())?;
         for (position, v) in self.indices.iter().enumerate() {
             match indegree.get_mut(v.to_usize()) {
                 Some(slot) => slot.increment(),
@@ -131,7 +155,9 @@ impl<'a, I: Idx> Csr<'a, I> {
                 .par_chunks(share)
                 .enumerate()
                 .map(|(part, chunk)| {
-                    let mut counts = vec![C::ZERO; n];
+                    let Ok(mut counts) = crate::alloc::zeroed::<C>("in-degrees", n) else {
+                        return Err(usize::MAX);
+                    };
                     for (offset, v) in chunk.iter().enumerate() {
                         match counts.get_mut(v.to_usize()) {
                             Some(slot) => slot.increment(),
@@ -144,7 +170,12 @@ impl<'a, I: Idx> Csr<'a, I> {
         });
         let mut parts = Vec::with_capacity(counted.len());
         for part in counted {
-            parts.push(part.map_err(|position| self.out_of_range(position))?);
+            parts.push(part.map_err(|position| match position {
+                usize::MAX => {
+                    Error::Allocation { what: "in-degrees", count: n, bytes_each: size_of::<C>() }
+                }
+                position => self.out_of_range(position),
+            })?);
         }
         let mut total = parts.swap_remove(0);
         for part in &parts {
@@ -159,7 +190,7 @@ impl<'a, I: Idx> Csr<'a, I> {
     /// every endpoint on the way.
     pub fn in_degrees(&self) -> Result<Vec<I>, Error> {
         // Counts fit I: each is at most m, and m fits I because indptr does.
-        let mut indegree = vec![I::default(); self.n()];
+        let mut indegree: Vec<I> = crate::alloc::zeroed("in-degrees", self.n())?;
         for (position, v) in self.indices.iter().enumerate() {
             match indegree.get_mut(v.to_usize()) {
                 Some(slot) => *slot = I::from_usize(slot.to_usize() + 1),
@@ -170,10 +201,15 @@ impl<'a, I: Idx> Csr<'a, I> {
     }
 }
 
-/// An unsigned counter for remaining in-degrees.
-pub trait Count: Copy + Send + Sync + 'static {
+/// An unsigned counter for remaining in-degrees (or any per-node count of
+/// edges still to come): `u32` whenever the edge count allows, which halves
+/// the memory traffic of 64-bit counts on the hot path.
+pub trait Count: crate::alloc::ZeroBits + Copy + Send + Sync + 'static {
     const ZERO: Self;
     const MAX: usize;
+    /// `value` must be at most `MAX`.
+    fn from_usize(value: usize) -> Self;
+    fn to_usize(self) -> usize;
     fn increment(&mut self);
     /// Add another count (sums stay below `MAX`: they count distinct edges).
     fn add(&mut self, other: Self);
@@ -188,6 +224,14 @@ macro_rules! impl_count {
             const ZERO: Self = 0;
             const MAX: usize = <$t>::MAX as usize;
             #[inline(always)]
+            fn from_usize(value: usize) -> Self {
+                value as $t
+            }
+            #[inline(always)]
+            fn to_usize(self) -> usize {
+                self as usize
+            }
+            #[inline(always)]
             fn increment(&mut self) {
                 *self += 1;
             }
@@ -197,7 +241,9 @@ macro_rules! impl_count {
             }
             #[inline(always)]
             fn decrement(&mut self) -> bool {
-                *self -= 1;
+                // Wrapping: a count can pass zero only if the input changed
+                // mid-call, and that must not panic (the caller detects it).
+                *self = self.wrapping_sub(1);
                 *self == 0
             }
             #[inline(always)]

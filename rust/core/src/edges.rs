@@ -39,7 +39,7 @@ pub fn edges_to_csr<I: Idx>(
         return Err(out_of_range("dst", position, dst[position]));
     }
     // cursor[u + 1] counts row u, then becomes the next write slot of row u.
-    let mut cursor = alloc::filled("row counts", n.saturating_add(1), 0usize)?;
+    let mut cursor = alloc::filled("indptr", n.saturating_add(1), 0usize)?;
     for (position, u) in src.iter().enumerate() {
         match cursor.get_mut(u.to_usize().wrapping_add(1)) {
             Some(count) if u.to_usize() < n => *count += 1,
@@ -52,7 +52,8 @@ pub fn edges_to_csr<I: Idx>(
     let mut indptr: Vec<I> = alloc::with_capacity("indptr", cursor.len())?;
     indptr.extend(cursor.iter().map(|&c| I::from_usize(c)));
     let mut indices = alloc::filled("indices", m, I::default())?;
-    let mut edge_ids = alloc::filled("edge ids", if with_edge_ids { m } else { 0 }, I::default())?;
+    let mut edge_ids =
+        if with_edge_ids { alloc::filled("edge ids", m, I::default())? } else { Vec::new() };
     for (k, (u, v)) in src.iter().zip(dst).enumerate() {
         let slot = &mut cursor[u.to_usize()];
         indices[*slot] = *v;

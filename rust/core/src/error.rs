@@ -45,6 +45,9 @@ pub enum Error {
     InputChanged { what: &'static str },
     /// A broken internal invariant: a bug, never the user's input.
     Internal { reason: String },
+    /// Finite values (weights, durations) whose sum along a path exceeds the
+    /// largest float64, first at `node` (in topological order).
+    Overflow { what: &'static str, node: usize },
 }
 
 impl fmt::Display for Error {
@@ -104,6 +107,12 @@ impl fmt::Display for Error {
                 f,
                 "{what} changed during the call; arrays passed in must not be modified \
                  until the call returns"
+            ),
+            Error::Overflow { what, node } => write!(
+                f,
+                "the {what} overflows at node {node}: the weights along a path to it add \
+                 up to more than {:e}, the largest float64",
+                f64::MAX
             ),
             Error::Internal { reason } => {
                 write!(f, "toporank internal error (please report): {reason}")

@@ -4,7 +4,9 @@
 ///
 /// Conversions are total: a negative value maps to a huge `usize`, so a
 /// single `< n` comparison rejects both negative and too-large ids.
-pub trait Idx: Copy + Send + Sync + Ord + Default + std::fmt::Debug + 'static {
+pub trait Idx:
+    crate::alloc::ZeroBits + Copy + Send + Sync + Ord + Default + std::fmt::Debug + 'static
+{
     /// The largest node count or edge count this width can address.
     const MAX_USIZE: usize;
     /// The value as an array position (negative values wrap to huge ones).

@@ -6,7 +6,10 @@
 //! successors, so a stored entry `(u, v)` means "u comes before v".
 //!
 //! Every failure that input can cause is reported as an [`Error`]; no
-//! function here panics on user data.
+//! function here panics on user data, nor reads out of bounds when the
+//! caller's arrays change during a call (see [`sweep`]).
+
+#![deny(clippy::undocumented_unsafe_blocks)]
 
 pub mod alloc;
 pub mod condense;
@@ -24,7 +27,10 @@ pub mod levels;
 pub mod metrics;
 pub mod paths;
 pub mod peel;
+#[cfg(test)]
+mod pinned;
 pub mod pool;
+pub mod ready;
 pub mod rng;
 pub mod scc;
 pub mod schedule;
@@ -37,4 +43,5 @@ pub mod witness;
 pub use csr::Csr;
 pub use error::Error;
 pub use index::Idx;
-pub use kahn::{kahn, kahn_shared, Key, KeyValues, Outcome, Tie};
+pub use kahn::{kahn, kahn_shared, Outcome};
+pub use ready::{Key, KeyValues, Tie};

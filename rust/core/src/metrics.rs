@@ -17,8 +17,9 @@
 //! nodes: over all node pairs (Kendall-style, by merge-sort inversion count,
 //! O(V log V)), over consecutive steps, and over the edges.
 
+use crate::interrupt::Ticker;
 use crate::verify::{positions, Violation};
-use crate::{Csr, Error, Idx};
+use crate::{alloc, Csr, Error, Idx};
 
 /// What [`order_metrics`] measures.
 #[derive(Debug, Clone, PartialEq, Eq)]
@@ -59,9 +60,9 @@ pub fn order_metrics<I: Idx, J: Idx>(
     // A malformed graph outranks a bad order, so check it before measuring.
     csr.check_indices()?;
     if n <= u32::MAX as usize {
-        Ok(measure::<I, J, u32>(csr, &position))
+        measure::<I, J, u32>(csr, &position)
     } else {
-        Ok(measure::<I, J, u64>(csr, &position))
+        measure::<I, J, u64>(csr, &position)
     }
 }
 
@@ -71,27 +72,33 @@ pub fn order_metrics<I: Idx, J: Idx>(
 fn measure<I: Idx, J: Idx, P: Idx>(
     csr: &Csr<'_, I>,
     position: &[J],
-) -> Result<OrderMetrics<I>, Violation> {
+) -> Result<Result<OrderMetrics<I>, Violation>, Error> {
     let n = csr.n();
-    let indices = csr.indices();
     // slot[v] = (pos(v), ready_at(v)).
-    let mut slot: Vec<(P, P)> =
-        position.iter().map(|p| (P::from_usize(p.to_usize()), P::default())).collect();
+    let mut slot: Vec<(P, P)> = alloc::with_capacity("order metrics", n)?;
+    slot.extend(position.iter().map(|p| (P::from_usize(p.to_usize()), P::default())));
     // live_change[t]: nodes becoming live at step t minus nodes ceasing to be.
-    let mut live_change = vec![0i64; n + 1];
+    let mut live_change = alloc::filled("order metrics", n + 1, 0i64)?;
     let mut span_total: u128 = 0;
     let mut span_max = 0usize;
     let mut live_total: u128 = 0;
+    let mut ticker = Ticker::new();
     for u in 0..n {
         let pos_u = slot[u].0.to_usize();
         let mut last = pos_u;
-        for edge in csr.row_range(u) {
-            // Endpoints were checked by the caller (`check_indices`).
-            let v = indices[edge].to_usize();
-            let (pos_v, ready_v) = &mut slot[v];
+        let (start, row) = csr.checked_row_at(u)?;
+        ticker.tick_by(row.len() + 1)?;
+        for (offset, v) in row.iter().enumerate() {
+            let edge = start + offset;
+            // Endpoints were checked by the caller (`check_indices`), but
+            // may have changed since.
+            let v = v.to_usize();
+            let Some((pos_v, ready_v)) = slot.get_mut(v) else {
+                return Err(Error::InputChanged { what: "indices" });
+            };
             let pos_v = pos_v.to_usize();
             if pos_v <= pos_u {
-                return Err(Violation::Edge { edge, u, v, pos_u, pos_v });
+                return Ok(Err(Violation::Edge { edge, u, v, pos_u, pos_v }));
             }
             let span = pos_v - pos_u;
             span_total += span as u128;
@@ -110,14 +117,14 @@ fn measure<I: Idx, J: Idx, P: Idx>(
 
     // Before step t the ready set is {v : ready_at(v) <= t} minus the t
     // nodes already emitted (each emitted node was ready before its step).
-    let mut became_ready = vec![0usize; n + 1];
+    let mut became_ready = alloc::filled("order metrics", n + 1, 0usize)?;
     let mut ready_total: u128 = 0;
     for &(pos_v, ready_v) in &slot {
         became_ready[ready_v.to_usize()] += 1;
         ready_total += (pos_v.to_usize() + 1 - ready_v.to_usize()) as u128;
     }
-    let mut ready_sizes = Vec::with_capacity(n);
-    let mut live_sizes = Vec::with_capacity(n);
+    let mut ready_sizes = alloc::with_capacity("ready sizes", n)?;
+    let mut live_sizes = alloc::with_capacity("live sizes", n)?;
     let (mut ready_so_far, mut live) = (0usize, 0i64);
     let (mut ready_peak, mut live_peak) = (0usize, 0usize);
     for t in 0..n {
@@ -130,7 +137,7 @@ fn measure<I: Idx, J: Idx, P: Idx>(
         live_peak = live_peak.max(live);
         live_sizes.push(I::from_usize(live));
     }
-    Ok(OrderMetrics {
+    Ok(Ok(OrderMetrics {
         ready_sizes,
         live_sizes,
         ready_peak,
@@ -139,7 +146,7 @@ fn measure<I: Idx, J: Idx, P: Idx>(
         live_total,
         span_total,
         span_max,
-    })
+    }))
 }
 
 /// Pairs counted by agreement with a reference ranking.

@@ -12,8 +12,10 @@
 //! values), and natural logarithms (computed here only when float64
 //! overflows; the caller takes logs of the floats otherwise).
 
-use crate::sweep::{fifo_sweep, settle_backward, Acyclic, Disjoint, LevelOrder};
-use crate::{Csr, Error, Idx};
+use std::sync::atomic::{AtomicBool, Ordering::Relaxed};
+
+use crate::sweep::{fifo_sweep, forward, settle_backward, Acyclic, Disjoint, LevelOrder};
+use crate::{alloc, Csr, Error, Idx};
 
 /// Exact counts, present only when the total fits `u64`.
 #[derive(Debug, Clone, PartialEq, Eq)]
@@ -53,51 +55,205 @@ const FLOAT_EXACT_BELOW: f64 = 9_007_199_254_740_992.0;
 /// beyond `u64::MAX`, so an exact pass would be wasted.
 const SURELY_TOO_BIG: f64 = 18_446_744_073_709_551_616.0 * (1.0 + 1e-7);
 
-/// Count the paths of `csr`; the backward pass runs on `threads` workers
-/// (same result for any count).
-pub fn path_counts<I: Idx>(csr: &Csr<'_, I>, threads: usize) -> Result<Acyclic<Counts, I>, Error> {
+/// The arithmetic a count is kept in; `None` from an operation means it
+/// left the representable range (only exact integers ever do).
+pub(crate) trait Arithmetic: Copy + PartialEq + Send + Sync + 'static {
+    const ZERO: Self;
+    const ONE: Self;
+    fn add(self, other: Self) -> Option<Self>;
+    fn mul(self, other: Self) -> Option<Self>;
+}
+
+impl Arithmetic for f64 {
+    const ZERO: Self = 0.0;
+    const ONE: Self = 1.0;
+    #[inline(always)]
+    fn add(self, other: Self) -> Option<Self> {
+        Some(self + other)
+    }
+    #[inline(always)]
+    fn mul(self, other: Self) -> Option<Self> {
+        Some(self * other)
+    }
+}
+
+impl Arithmetic for u64 {
+    const ZERO: Self = 0;
+    const ONE: Self = 1;
+    #[inline(always)]
+    fn add(self, other: Self) -> Option<Self> {
+        self.checked_add(other)
+    }
+    #[inline(always)]
+    fn mul(self, other: Self) -> Option<Self> {
+        self.checked_mul(other)
+    }
+}
+
+/// A count held as its natural logarithm: finite however deep the graph.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub(crate) struct Log(f64);
+
+impl Arithmetic for Log {
+    const ZERO: Self = Log(f64::NEG_INFINITY);
+    const ONE: Self = Log(0.0);
+    /// `ln(e^a + e^b)` without leaving the log domain.
+    #[inline(always)]
+    fn add(self, other: Self) -> Option<Self> {
+        let (high, low) = if self.0 >= other.0 { (self.0, other.0) } else { (other.0, self.0) };
+        if low == f64::NEG_INFINITY {
+            return Some(Log(high));
+        }
+        Some(Log(high + (low - high).exp().ln_1p()))
+    }
+    #[inline(always)]
+    fn mul(self, other: Self) -> Option<Self> {
+        Some(Log(self.0 + other.0))
+    }
+}
+
+/// The per-node terms of a path count: what a node adds to the paths that
+/// reach it (`start`) and to the paths that leave it (`end`). The search
+/// path count starts paths at sources and ends them at sinks; other main
+/// path weights (SPLC, SPNP) are other terms over the same programme.
+pub(crate) trait Terms<A>: Sync {
+    /// The count of paths into `u`, given the sum `inflow` over its
+    /// predecessors (`ZERO` exactly when `u` has none).
+    fn start(&self, u: usize, inflow: A) -> A;
+    /// The term of paths out of `u`, ending there when it `is_sink`.
+    fn end(&self, u: usize, is_sink: bool) -> A;
+}
+
+/// Search path count: every path runs from a source to a sink.
+pub(crate) struct SourcesToSinks;
+
+impl<A: Arithmetic> Terms<A> for SourcesToSinks {
+    #[inline(always)]
+    fn start(&self, _u: usize, inflow: A) -> A {
+        // Only a source reaches its turn without a path in.
+        if inflow == A::ZERO {
+            A::ONE
+        } else {
+            inflow
+        }
+    }
+    #[inline(always)]
+    fn end(&self, _u: usize, is_sink: bool) -> A {
+        if is_sink {
+            A::ONE
+        } else {
+            A::ZERO
+        }
+    }
+}
+
+/// One path-count table in one arithmetic.
+pub(crate) struct Table<A> {
+    pub from: Vec<A>,
+    pub to: Vec<A>,
+    pub through: Vec<A>,
+    pub total: A,
+}
+
+/// The one dynamic programme of path counts, in arithmetic `A` with
+/// `terms`: `from[v] = start(v, sum of from[u] over edges u -> v)` forward,
+/// `to[u] = end(u) + sum of to[v] over edges u -> v` backward, `through[e] =
+/// from[u] * to[v]`, `total = sum of from[u] * end(u)` (in id order, so
+/// every thread count sums alike).
+///
+/// With `known = None` the forward pass discovers the level order itself
+/// (one read of each row for both) and returns it; otherwise it runs along
+/// `known`. `Ok(Ok((_, None)))` when a value left `A`'s range.
+#[allow(clippy::type_complexity)]
+pub(crate) fn count_paths<I: Idx, A: Arithmetic, T: Terms<A>>(
+    csr: &Csr<'_, I>,
+    known: Option<&LevelOrder<I>>,
+    threads: usize,
+    terms: &T,
+) -> Result<Acyclic<(Option<LevelOrder<I>>, Option<Table<A>>), I>, Error> {
     let n = csr.n();
-    let swept = fifo_sweep(
-        csr,
-        0.0f64,
-        |_, from| {
-            // Only a source reaches its turn without a path in.
-            if *from == 0.0 {
-                *from = 1.0;
+    let overflow = AtomicBool::new(false);
+    let checked = |value: Option<A>| {
+        value.unwrap_or_else(|| {
+            overflow.store(true, Relaxed);
+            A::ZERO
+        })
+    };
+    let (discovered, from) = match known {
+        None => {
+            let swept = fifo_sweep(
+                csr,
+                A::ZERO,
+                |u, from| {
+                    *from = terms.start(u, *from);
+                    *from
+                },
+                |&passed, _, _, from| *from = checked(from.add(passed)),
+            )?;
+            match swept {
+                Ok((levels, from)) => (Some(levels), from),
+                Err(cyclic) => return Ok(Err(cyclic)),
             }
-            *from
-        },
-        |&passed, _, _, from| *from += passed,
-    )?;
-    let (levels, from) = match swept {
-        Ok(swept) => swept,
+        }
+        Some(levels) => {
+            let mut from = alloc::filled("paths from sources", n, A::ZERO)?;
+            forward(csr, &levels.order, |u| {
+                let count = terms.start(u, from[u]);
+                from[u] = count;
+                for v in csr.checked_row(u)? {
+                    let slot = from
+                        .get_mut(v.to_usize())
+                        .ok_or(Error::InputChanged { what: "indices" })?;
+                    *slot = checked(slot.add(count));
+                }
+                Ok(())
+            })?;
+            (None, from)
+        }
+    };
+    let Some(levels) = discovered.as_ref().or(known) else {
+        return Err(Error::Internal { reason: "path counts without an order".into() });
+    };
+    let mut to = alloc::filled("paths to sinks", n, A::ZERO)?;
+    let mut through = alloc::filled("paths through edges", csr.m(), A::ZERO)?;
+    let (to_cells, through_cells) = (Disjoint::new(&mut to), Disjoint::new(&mut through));
+    settle_backward(csr, levels, threads, |u| {
+        let (start, row) = csr.checked_row_at(u)?;
+        let count = from[u];
+        let mut sum = terms.end(u, row.is_empty());
+        // SAFETY: (settle_backward's contract) this call alone touches the
+        // edges of row u; `range_mut` checks the range.
+        let slots = unsafe { through_cells.range_mut(start..start + row.len()) }?;
+        for (slot, v) in slots.iter_mut().zip(row) {
+            // SAFETY: (settle_backward's contract) successors are settled and
+            // no worker writes them now; `get` checks the index.
+            let t = unsafe { to_cells.get(v.to_usize()) }?;
+            sum = checked(sum.add(t));
+            *slot = checked(count.mul(t));
+        }
+        // SAFETY: (settle_backward's contract) only this call writes u.
+        unsafe { to_cells.set(u, sum) }
+    })?;
+    let mut total = A::ZERO;
+    for (u, &count) in from.iter().enumerate() {
+        let end = terms.end(u, csr.checked_row(u)?.is_empty());
+        if end != A::ZERO {
+            total = checked(total.add(checked(count.mul(end))));
+        }
+    }
+    let table = (!overflow.load(Relaxed)).then_some(Table { from, to, through, total });
+    Ok(Ok((discovered, table)))
+}
+
+/// Count the paths of `csr`; the backward pass runs on `threads` workers
+/// when it pays (same result for any count).
+pub fn path_counts<I: Idx>(csr: &Csr<'_, I>, threads: usize) -> Result<Acyclic<Counts, I>, Error> {
+    let (levels, floats) = match count_paths::<I, f64, _>(csr, None, threads, &SourcesToSinks)? {
+        Ok((Some(levels), Some(floats))) => (levels, floats),
+        Ok(_) => return Err(Error::Internal { reason: "float path counts went missing".into() }),
         Err(cyclic) => return Ok(Err(cyclic)),
     };
-    let mut to = vec![0.0f64; n];
-    let mut through = vec![0.0f64; csr.m()];
-    let (to_cells, through_cells) = (Disjoint::new(&mut to), Disjoint::new(&mut through));
-    settle_backward(csr, &levels, threads, |u| {
-        // SAFETY (settle_backward's contract): this writes only `to[u]` and
-        // the edges of row u, and reads only successors' `to`.
-        unsafe {
-            let range = csr.row_range(u);
-            if range.is_empty() {
-                to_cells.set(u, 1.0);
-                return;
-            }
-            let mut sum = 0.0;
-            let count = from[u];
-            let row = &csr.indices()[range.clone()];
-            for (slot, v) in through_cells.range_mut(range).iter_mut().zip(row) {
-                let t = to_cells.get(v.to_usize());
-                sum += t;
-                *slot = count * t;
-            }
-            to_cells.set(u, sum);
-        }
-    })?;
-    // Summed in id order so the total does not depend on the thread count.
-    let total: f64 = (0..n).filter(|&u| csr.row_range(u).is_empty()).map(|u| from[u]).sum();
+    let Table { from, to, through, total } = floats;
     let exact = if total < FLOAT_EXACT_BELOW {
         let exact = |values: &[f64]| values.iter().map(|&x| x as u64).collect();
         Some(ExactCounts {
@@ -107,96 +263,35 @@ pub fn path_counts<I: Idx>(csr: &Csr<'_, I>, threads: usize) -> Result<Acyclic<C
             total: total as u64,
         })
     } else if total < SURELY_TOO_BIG {
-        exact_counts(csr, &levels)
+        match count_paths::<I, u64, _>(csr, Some(&levels), threads, &SourcesToSinks)? {
+            Ok((_, table)) => table.map(|t| ExactCounts {
+                from_sources: t.from,
+                to_sinks: t.to,
+                through_edge: t.through,
+                total: t.total,
+            }),
+            Err(cyclic) => return Ok(Err(cyclic)),
+        }
     } else {
         None
     };
-    let log = total.is_infinite().then(|| log_counts(csr, &levels));
+    let log = if total.is_infinite() {
+        match count_paths::<I, Log, _>(csr, Some(&levels), threads, &SourcesToSinks)? {
+            Ok((_, table)) => table.map(|t| {
+                let logs = |values: Vec<Log>| values.into_iter().map(|x| x.0).collect();
+                LogCounts {
+                    from_sources: logs(t.from),
+                    to_sinks: logs(t.to),
+                    through_edge: logs(t.through),
+                    total: t.total.0,
+                }
+            }),
+            Err(cyclic) => return Ok(Err(cyclic)),
+        }
+    } else {
+        None
+    };
     Ok(Ok(Counts { from_sources: from, to_sinks: to, through_edge: through, total, exact, log }))
-}
-
-/// The counts in checked `u64` arithmetic; `None` as soon as one overflows.
-fn exact_counts<I: Idx>(csr: &Csr<'_, I>, levels: &LevelOrder<I>) -> Option<ExactCounts> {
-    let n = csr.n();
-    let mut from = vec![0u64; n];
-    for u in &levels.order {
-        let u = u.to_usize();
-        if from[u] == 0 {
-            from[u] = 1;
-        }
-        let count = from[u];
-        for v in csr.row(u) {
-            let slot = &mut from[v.to_usize()];
-            *slot = slot.checked_add(count)?;
-        }
-    }
-    let mut to = vec![0u64; n];
-    let mut through = vec![0u64; csr.m()];
-    let mut total = 0u64;
-    for u in levels.order.iter().rev() {
-        let u = u.to_usize();
-        let range = csr.row_range(u);
-        if range.is_empty() {
-            to[u] = 1;
-            total = total.checked_add(from[u])?;
-            continue;
-        }
-        let mut sum = 0u64;
-        for (slot, v) in through[range.clone()].iter_mut().zip(&csr.indices()[range]) {
-            let t = to[v.to_usize()];
-            sum = sum.checked_add(t)?;
-            *slot = from[u].checked_mul(t)?;
-        }
-        to[u] = sum;
-    }
-    Some(ExactCounts { from_sources: from, to_sinks: to, through_edge: through, total })
-}
-
-/// `ln(e^a + e^b)` without leaving the log domain.
-#[inline]
-fn log_add(a: f64, b: f64) -> f64 {
-    let (high, low) = if a >= b { (a, b) } else { (b, a) };
-    if low == f64::NEG_INFINITY {
-        return high;
-    }
-    high + (low - high).exp().ln_1p()
-}
-
-/// The counts as natural logarithms, finite however deep the graph.
-fn log_counts<I: Idx>(csr: &Csr<'_, I>, levels: &LevelOrder<I>) -> LogCounts {
-    let n = csr.n();
-    let mut from = vec![f64::NEG_INFINITY; n];
-    for u in &levels.order {
-        let u = u.to_usize();
-        if from[u] == f64::NEG_INFINITY {
-            from[u] = 0.0;
-        }
-        let count = from[u];
-        for v in csr.row(u) {
-            let slot = &mut from[v.to_usize()];
-            *slot = log_add(*slot, count);
-        }
-    }
-    let mut to = vec![0.0; n];
-    let mut through = vec![0.0; csr.m()];
-    let mut total = f64::NEG_INFINITY;
-    for u in levels.order.iter().rev() {
-        let u = u.to_usize();
-        let range = csr.row_range(u);
-        if range.is_empty() {
-            to[u] = 0.0;
-            total = log_add(total, from[u]);
-            continue;
-        }
-        let mut sum = f64::NEG_INFINITY;
-        for (slot, v) in through[range.clone()].iter_mut().zip(&csr.indices()[range]) {
-            let t = to[v.to_usize()];
-            sum = log_add(sum, t);
-            *slot = from[u] + t;
-        }
-        to[u] = sum;
-    }
-    LogCounts { from_sources: from, to_sinks: to, through_edge: through, total }
 }
 
 #[cfg(test)]

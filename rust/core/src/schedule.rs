@@ -18,21 +18,22 @@
 //! priority: the largest bottom level first, where the bottom level of a task
 //! is its duration plus the largest bottom level among its successors (the
 //! duration-weighted longest path from the task to the end, itself
-//! included). The bottom levels come from a private sweep here
-//! ([`bottom_levels`]), in reverse FIFO Kahn order.
+//! included). The bottom levels come from the sweep engine's backward pass
+//! ([`bottom_levels`]); every ready set is one of [`crate::ready`].
 //!
 //! With one worker the start order is exactly Kahn's order under the same
 //! policy. Cost: O(V + E) plus O(V log p) for the worker pool, and
 //! O(V log V) for the rank-based policies.
 
 use std::cmp::Reverse;
-use std::collections::{BinaryHeap, VecDeque};
+use std::collections::BinaryHeap;
 use std::fmt::Debug;
 
-use crate::heap::QuadHeap;
-use crate::kahn::{kahn, prefetch, Outcome, Tie};
-use crate::rng::SplitMix64;
-use crate::{Csr, Error, Idx};
+use crate::interrupt::Ticker;
+use crate::kahn::{kahn, Outcome, Tie};
+use crate::ready::{critical, with_ready, ReadySet, WithReady};
+use crate::sweep::{fifo_sweep, prefetch, settle_backward, Disjoint};
+use crate::{alloc, Csr, Error, Idx};
 
 /// A task duration and the time it induces: `i64` or `f64`.
 pub trait Duration: Copy + PartialOrd + Send + Sync + Debug + 'static {
@@ -94,17 +95,14 @@ impl Duration for f64 {
     }
 }
 
-/// Which ready task starts next.
+/// Which ready task starts next: any tie-break of Kahn's order, or the
+/// critical path first.
 #[derive(Debug, Clone, Copy)]
 pub enum Policy<'a> {
-    /// The one that became ready first.
-    Queue,
-    /// The one that became ready last.
-    Stack,
-    /// The smallest rank, ties to the smaller id; `None` ranks by id.
-    Ranked(Option<&'a [u64]>),
-    /// Uniformly random among the ready tasks, from this seed.
-    Random { seed: u64 },
+    /// As in Kahn's order (queue, stack, priority by key with ties to the
+    /// smaller id, seeded random); with one worker the start order is
+    /// exactly Kahn's order under the same tie.
+    Tie(Tie<'a>),
     /// The largest bottom level, ties to the smaller id.
     CriticalPath,
 }
@@ -151,86 +149,34 @@ fn total_work<T: Duration>(durations: &[T], n: usize) -> Result<T, Error> {
 /// Bottom level of every task (its duration plus the largest bottom level of
 /// its successors), or the Kahn outcome naming a cycle.
 ///
-/// A private sweep of the scheduler, exposed for the critical-path order of
-/// policy comparisons; O(V + E).
+/// The sweep engine's order and backward pass; exposed for the
+/// critical-path order of policy comparisons; O(V + E).
 pub fn bottom_levels<I: Idx, T: Duration>(
     csr: &Csr<'_, I>,
     durations: &[T],
 ) -> Result<Result<Vec<T>, Outcome<I>>, Error> {
     total_work(durations, csr.n())?;
-    let outcome = kahn(csr, &Tie::Queue)?;
-    if !outcome.is_complete() {
-        return Ok(Err(outcome));
-    }
-    Ok(Ok(sweep(csr, durations, &outcome.order)))
-}
-
-/// Bottom levels along `order`, a topological order, swept backwards. Sums
-/// stay below the total work, which the caller has checked.
-fn sweep<I: Idx, T: Duration>(csr: &Csr<'_, I>, durations: &[T], order: &[I]) -> Vec<T> {
-    let mut level = vec![T::ZERO; csr.n()];
-    for &u in order.iter().rev() {
-        let u = u.to_usize();
+    let levels = match fifo_sweep(csr, (), |_, _| (), |_, _, _, _| {})? {
+        Ok((levels, _)) => levels,
+        Err(cyclic) => return Ok(Err(cyclic)),
+    };
+    let mut level = alloc::filled("bottom levels", csr.n(), T::ZERO)?;
+    let cells = Disjoint::new(&mut level);
+    settle_backward(csr, &levels, 1, |u| {
         let mut below = T::ZERO;
-        for &v in csr.row(u) {
-            let candidate = level[v.to_usize()];
+        for &v in csr.checked_row(u)? {
+            // SAFETY: (settle_backward's contract) successors are settled and
+            // no worker writes them now; `get` checks the index.
+            let candidate = unsafe { cells.get(v.to_usize()) }?;
             if candidate > below {
                 below = candidate;
             }
         }
-        level[u] = durations[u].checked_sum(below).unwrap_or(below);
-    }
-    level
-}
-
-/// The ready tasks under one policy.
-enum ReadySet<'a, I> {
-    Queue(VecDeque<I>),
-    Stack(Vec<I>),
-    /// Entries pack `(rank, task)` so one integer comparison orders them.
-    Ranked {
-        heap: QuadHeap<u128>,
-        rank: Option<&'a [u64]>,
-    },
-    Random {
-        items: Vec<I>,
-        rng: SplitMix64,
-    },
-}
-
-impl<I: Idx> ReadySet<'_, I> {
-    #[inline]
-    fn push(&mut self, task: I) {
-        match self {
-            ReadySet::Queue(q) => q.push_back(task),
-            ReadySet::Stack(s) => s.push(task),
-            ReadySet::Ranked { heap, rank } => {
-                let r = rank.map_or(0, |rank| rank[task.to_usize()]);
-                heap.push(((r as u128) << 64) | task.to_usize() as u128)
-            }
-            ReadySet::Random { items, .. } => items.push(task),
-        }
-    }
-
-    #[inline]
-    fn pop(&mut self) -> Option<I> {
-        match self {
-            ReadySet::Queue(q) => q.pop_front(),
-            ReadySet::Stack(s) => s.pop(),
-            ReadySet::Ranked { heap, .. } => {
-                heap.pop().map(|entry| I::from_usize(entry as u64 as usize))
-            }
-            ReadySet::Random { items, rng } => {
-                if items.is_empty() {
-                    return None;
-                }
-                // The same draw as Kahn's random policy, so one worker
-                // reproduces its order.
-                let pick = rng.below(items.len() as u64) as usize;
-                Some(items.swap_remove(pick))
-            }
-        }
-    }
+        // Sums stay below the total work, which was checked above.
+        // SAFETY: (settle_backward's contract) only this call writes u.
+        unsafe { cells.set(u, durations[u].checked_sum(below).unwrap_or(below)) }
+    })?;
+    Ok(Ok(level))
 }
 
 /// List-schedule the tasks of `csr` with `durations` on `workers` workers.
@@ -245,122 +191,136 @@ pub fn list_schedule<I: Idx, T: Duration>(
     if workers == 0 {
         return Err(Error::NoWorkers);
     }
-    // Per task: earliest start and predecessors still running, side by side
-    // so an edge costs one random memory access, not two.
-    let mut waiting: Vec<(T, u64)> =
-        csr.in_degrees()?.into_iter().map(|d| (T::ZERO, d.to_usize() as u64)).collect();
-    let critical_rank: Vec<u64>;
-    let mut ready = match *policy {
-        Policy::Queue => ReadySet::Queue(VecDeque::new()),
-        Policy::Stack => ReadySet::Stack(Vec::new()),
-        Policy::Random { seed } => {
-            ReadySet::Random { items: Vec::new(), rng: SplitMix64::new(seed) }
-        }
-        Policy::Ranked(rank) => {
-            if let Some(rank) = rank {
-                if rank.len() != n {
-                    return Err(Error::LengthMismatch {
-                        what: "key",
-                        expected: n,
-                        got: rank.len(),
-                    });
-                }
-            }
-            ReadySet::Ranked { heap: QuadHeap::new(), rank }
-        }
+    let simulate = Simulate { csr, durations, workers, total };
+    match policy {
+        Policy::Tie(tie) => with_ready(tie, n, n, 0, simulate)?,
         Policy::CriticalPath => {
-            let outcome = kahn(csr, &Tie::Queue)?;
-            if !outcome.is_complete() {
-                return Ok(Scheduled::Cyclic(outcome));
-            }
-            let level = sweep(csr, durations, &outcome.order);
-            // Complemented so that the smallest rank is the largest level.
-            critical_rank = level.iter().map(|l| !l.sort_key()).collect();
-            ReadySet::Ranked { heap: QuadHeap::new(), rank: Some(&critical_rank) }
-        }
-    };
-    for (v, &(_, left)) in waiting.iter().enumerate() {
-        if left == 0 {
-            ready.push(I::from_usize(v));
-        }
-    }
-    let (indptr, indices) = (csr.indptr(), csr.indices());
-
-    // Workers beyond the task count would never be used.
-    let slots = workers.min(n);
-    let mut free: BinaryHeap<Reverse<usize>> = (0..slots).map(Reverse).collect();
-    // (finish time key, worker, task) of the running tasks.
-    let mut running: BinaryHeap<Reverse<(u64, usize, usize)>> = BinaryHeap::with_capacity(slots);
-    let mut start = vec![T::ZERO; n];
-    let mut worker = vec![-1i64; n];
-    let mut order: Vec<I> = Vec::with_capacity(n);
-    let mut now = T::ZERO;
-    let mut critical_path = T::ZERO;
-    // Every sum below is at most the total work, checked above.
-    let add = |a: T, b: T| a.checked_sum(b).unwrap_or(a);
-
-    loop {
-        while let Some(&Reverse(w)) = free.peek() {
-            let Some(task) = ready.pop() else { break };
-            free.pop();
-            let t = task.to_usize();
-            // The row is read when the task finishes, a few events later.
-            prefetch(indices.as_ptr().wrapping_add(indptr[t].to_usize()));
-            start[t] = now;
-            worker[t] = w as i64;
-            order.push(task);
-            running.push(Reverse((add(now, durations[t]).sort_key(), w, t)));
-        }
-        let Some(Reverse((finish_key, first_worker, first_task))) = running.pop() else {
-            break;
-        };
-        now = add(start[first_task], durations[first_task]);
-        let mut done = Some((first_worker, first_task));
-        while let Some((w, task)) = done {
-            free.push(Reverse(w));
-            let reach = add(waiting[task].0, durations[task]);
-            if reach > critical_path {
-                critical_path = reach;
-            }
-            for &v in csr.row(task) {
-                let (earliest, left) = &mut waiting[v.to_usize()];
-                if reach > *earliest {
-                    *earliest = reach;
-                }
-                *left -= 1;
-                if *left == 0 {
-                    prefetch(indptr.as_ptr().wrapping_add(v.to_usize()));
-                    ready.push(v);
-                }
-            }
-            done = match running.peek() {
-                Some(&Reverse((key, w, task))) if key == finish_key => {
-                    running.pop();
-                    Some((w, task))
-                }
-                _ => None,
+            let level = match bottom_levels(csr, durations)? {
+                Ok(level) => level,
+                Err(cyclic) => return Ok(Scheduled::Cyclic(cyclic)),
             };
+            // Complemented so that the smallest key is the largest level.
+            let mut complemented = alloc::with_capacity("critical ranks", n)?;
+            complemented.extend(level.iter().map(|l| !l.sort_key()));
+            simulate.run(critical(&complemented))
         }
     }
+}
 
-    if order.len() < n {
-        return Ok(Scheduled::Cyclic(kahn(csr, &Tie::Queue)?));
+/// The event-driven simulation, for any ready set.
+struct Simulate<'a, 'g, I: Idx, T> {
+    csr: &'a Csr<'g, I>,
+    durations: &'a [T],
+    workers: usize,
+    total: T,
+}
+
+impl<I: Idx, T: Duration> WithReady for Simulate<'_, '_, I, T> {
+    type Output = Result<Scheduled<I, T>, Error>;
+
+    fn run<R: ReadySet>(self, mut ready: R) -> Result<Scheduled<I, T>, Error> {
+        let Simulate { csr, durations, workers, total } = self;
+        let n = csr.n();
+        let changed = Error::InputChanged { what: "indices" };
+        // Per task: earliest start and predecessors still running, side by
+        // side so an edge costs one random memory access, not two.
+        let mut waiting: Vec<(T, u64)> = alloc::with_capacity("schedule", n)?;
+        waiting.extend(csr.in_degrees()?.into_iter().map(|d| (T::ZERO, d.to_usize() as u64)));
+        for (v, &(_, left)) in waiting.iter().enumerate() {
+            if left == 0 {
+                ready.push(v);
+            }
+        }
+        let (indptr, indices) = (csr.indptr(), csr.indices());
+
+        // Workers beyond the task count would never be used.
+        let slots = workers.min(n);
+        let mut free: BinaryHeap<Reverse<usize>> = (0..slots).map(Reverse).collect();
+        // (finish time key, worker, task) of the running tasks.
+        let mut running: BinaryHeap<Reverse<(u64, usize, usize)>> =
+            BinaryHeap::with_capacity(slots);
+        let mut start = alloc::filled("start times", n, T::ZERO)?;
+        let mut worker = alloc::filled("workers", n, -1i64)?;
+        let mut order: Vec<I> = alloc::with_capacity("order", n)?;
+        let mut now = T::ZERO;
+        let mut critical_path = T::ZERO;
+        // Every sum below is at most the total work, checked above.
+        let add = |a: T, b: T| a.checked_sum(b).unwrap_or(a);
+        let mut ticker = Ticker::new();
+
+        loop {
+            while let Some(&Reverse(w)) = free.peek() {
+                let Some(t) = ready.pop() else { break };
+                if order.len() == n {
+                    return Err(changed);
+                }
+                free.pop();
+                // The row is read when the task finishes, a few events later.
+                if let Some(row_start) = indptr.get(t) {
+                    prefetch(indices.as_ptr().wrapping_add(row_start.to_usize()));
+                }
+                start[t] = now;
+                worker[t] = w as i64;
+                order.push(I::from_usize(t));
+                running.push(Reverse((add(now, durations[t]).sort_key(), w, t)));
+            }
+            let Some(Reverse((finish_key, first_worker, first_task))) = running.pop() else {
+                break;
+            };
+            now = add(start[first_task], durations[first_task]);
+            let mut done = Some((first_worker, first_task));
+            while let Some((w, task)) = done {
+                free.push(Reverse(w));
+                let reach = add(waiting[task].0, durations[task]);
+                if reach > critical_path {
+                    critical_path = reach;
+                }
+                let row = csr.checked_row(task)?;
+                ticker.tick_by(row.len() + 1)?;
+                for &v in row {
+                    let v = v.to_usize();
+                    let Some((earliest, left)) = waiting.get_mut(v) else {
+                        return Err(changed);
+                    };
+                    if reach > *earliest {
+                        *earliest = reach;
+                    }
+                    *left = left.wrapping_sub(1);
+                    if *left == 0 {
+                        prefetch(indptr.as_ptr().wrapping_add(v));
+                        ready.push(v);
+                    }
+                }
+                done = match running.peek() {
+                    Some(&Reverse((key, w, task))) if key == finish_key => {
+                        running.pop();
+                        Some((w, task))
+                    }
+                    _ => None,
+                };
+            }
+        }
+
+        if order.len() < n {
+            return Ok(Scheduled::Cyclic(kahn(csr, &Tie::Queue)?));
+        }
+        Ok(Scheduled::Done(Schedule {
+            start,
+            worker,
+            order,
+            makespan: now,
+            critical_path,
+            total_work: total,
+        }))
     }
-    Ok(Scheduled::Done(Schedule {
-        start,
-        worker,
-        order,
-        makespan: now,
-        critical_path,
-        total_work: total,
-    }))
 }
 
 #[cfg(test)]
 mod tests {
     use super::*;
     use crate::edges::edges_to_csr;
-    use crate::kahn::Key;
+    use crate::kahn::{Key, KeyValues};
+    use crate::rng::SplitMix64;
 
     fn graph(src: &[i64], dst: &[i64], n: usize) -> (Vec<i64>, Vec<i64>) {
         let g = edges_to_csr(src, dst, n, false).unwrap();
@@ -392,7 +352,7 @@ mod tests {
         let dst = [8i64, 4, 5, 6, 7];
         let (indptr, indices) = graph(&src, &dst, 9);
         let durations = [3i64, 2, 2, 2, 4, 4, 4, 4, 9];
-        let list = Policy::Ranked(None);
+        let list = Policy::Tie(Tie::Priority(Key::default()));
         assert_eq!(run(&indptr, &indices, &durations, 3, list).makespan, 12);
         let shorter: Vec<i64> = durations.iter().map(|d| d - 1).collect();
         assert_eq!(run(&indptr, &indices, &shorter, 3, list).makespan, 13);
@@ -429,10 +389,10 @@ mod tests {
             let durations: Vec<i64> = (0..n).map(|_| rng.below(5) as i64).collect();
             let workers = 1 + rng.below(4) as usize;
             let policies = [
-                Policy::Queue,
-                Policy::Stack,
-                Policy::Ranked(None),
-                Policy::Random { seed: round },
+                Policy::Tie(Tie::Queue),
+                Policy::Tie(Tie::Stack),
+                Policy::Tie(Tie::Priority(Key::default())),
+                Policy::Tie(Tie::Random { seed: round }),
                 Policy::CriticalPath,
             ];
             for policy in policies {
@@ -470,14 +430,16 @@ mod tests {
             let (indptr, indices, n) = random_dag(&mut rng);
             let g = Csr::new(&indptr, &indices).unwrap();
             let unit = vec![1i64; n];
-            let pairs = [
-                (Policy::Queue, Tie::Queue),
-                (Policy::Stack, Tie::Stack),
-                (Policy::Ranked(None), Tie::Priority(Key::default())),
-                (Policy::Random { seed: round }, Tie::Random { seed: round }),
+            let key: Vec<u64> = (0..n).map(|_| rng.below(4)).collect();
+            let ties = [
+                Tie::Queue,
+                Tie::Stack,
+                Tie::Priority(Key::default()),
+                Tie::Priority(Key { values: Some(KeyValues::U64(&key)), descending: true }),
+                Tie::Random { seed: round },
             ];
-            for (policy, tie) in pairs {
-                let s = run(&indptr, &indices, &unit, 1, policy);
+            for tie in ties {
+                let s = run(&indptr, &indices, &unit, 1, Policy::Tie(tie));
                 assert_eq!(s.order, kahn(&g, &tie).unwrap().order);
                 assert_eq!(s.makespan, n as i64);
             }
@@ -508,22 +470,25 @@ mod tests {
     fn bad_input_is_an_error_and_cycles_are_reported() {
         let (indptr, indices) = graph(&[0], &[1], 2);
         let g = Csr::new(&indptr, &indices).unwrap();
-        let err = list_schedule(&g, &[1.0, f64::NAN], 2, &Policy::Queue).unwrap_err();
+        let err = list_schedule(&g, &[1.0, f64::NAN], 2, &Policy::Tie(Tie::Queue)).unwrap_err();
         assert!(err.to_string().contains("duration[1] = NaN"), "{err}");
-        let err = list_schedule(&g, &[-3i64, 1], 2, &Policy::Queue).unwrap_err();
+        let err = list_schedule(&g, &[-3i64, 1], 2, &Policy::Tie(Tie::Queue)).unwrap_err();
         assert!(err.to_string().contains("duration[0] = -3"), "{err}");
-        assert_eq!(list_schedule(&g, &[1i64, 1], 0, &Policy::Queue).unwrap_err(), Error::NoWorkers);
         assert_eq!(
-            list_schedule(&g, &[i64::MAX, 1], 1, &Policy::Queue).unwrap_err(),
+            list_schedule(&g, &[1i64, 1], 0, &Policy::Tie(Tie::Queue)).unwrap_err(),
+            Error::NoWorkers
+        );
+        assert_eq!(
+            list_schedule(&g, &[i64::MAX, 1], 1, &Policy::Tie(Tie::Queue)).unwrap_err(),
             Error::DurationOverflow { total_of: 2 }
         );
         assert!(matches!(
-            list_schedule(&g, &[1i64], 1, &Policy::Queue),
+            list_schedule(&g, &[1i64], 1, &Policy::Tie(Tie::Queue)),
             Err(Error::LengthMismatch { what: "duration", .. })
         ));
         let (indptr, indices) = graph(&[0, 1, 1], &[1, 2, 1], 3);
         let g = Csr::new(&indptr, &indices).unwrap();
-        for policy in [Policy::Queue, Policy::CriticalPath] {
+        for policy in [Policy::Tie(Tie::Queue), Policy::CriticalPath] {
             match list_schedule(&g, &[1i64; 3], 2, &policy).unwrap() {
                 Scheduled::Cyclic(outcome) => assert_eq!(outcome.cycle, vec![1]),
                 Scheduled::Done(_) => panic!("a self-loop is a cycle"),

@@ -1,18 +1,145 @@
-//! A FIFO Kahn's loop that visits every edge once, in topological order.
+//! The sweep engine: every pass along a topological order runs here.
 //!
-//! The dynamic programmes along an order (levels, critical path, path
-//! counts) all need the order and one look at each edge `u -> v` after `u`'s
-//! value is final. Doing both in the same loop reads each CSR row once
-//! instead of twice, which is most of the cost on graphs larger than cache.
+//! * [`run_queue`]: the FIFO Kahn's loop with hooks ([`FifoHooks`]); plain
+//!   Kahn's order is the loop with no hooks, a sweep adds per-node work;
+//! * [`fifo_sweep`]: the forward pass fused with the order's discovery, so
+//!   each CSR row is read once (levels, earliest starts, paths from sources);
+//! * [`forward`]: a forward pass along a known order (path counts in other
+//!   arithmetic);
+//! * [`settle_backward`]: the backward pass, serial or shared among threads
+//!   level by level (heights, latest starts, paths to sinks, bottom levels).
+//!
+//! Soundness does not rest on the input holding still: the caller's arrays
+//! are shared with Python, whose other threads run while the GIL is released.
+//! Every read of `indptr`/`indices` here is bounds-checked (a predictable
+//! branch; measured within noise of the unchecked loop), and a value that
+//! changed mid-call ends the call with [`Error::InputChanged`] instead.
 
 use std::marker::PhantomData;
 
 use rayon::prelude::*;
 
 use crate::csr::Count;
-use crate::kahn::{kahn, prefetch, run_queue, FifoHooks, Outcome, Tie, EDGES_AHEAD, ROW_AHEAD};
+use crate::interrupt::Ticker;
+use crate::kahn::{kahn, Outcome, Tie};
 use crate::pool::pool;
-use crate::{Csr, Error, Idx};
+use crate::{alloc, Csr, Error, Idx};
+
+/// How many queue slots ahead each stage of the FIFO loop prefetches: the
+/// row bounds of the node `ROW_AHEAD` slots ahead and the row itself
+/// `EDGES_AHEAD` ahead. Each emitted node otherwise costs a chain of
+/// dependent cache misses (queue slot, row bounds, row). Prefetching the
+/// successors' counts too was measured slower: the out-of-order core already
+/// overlaps those independent misses within a row.
+pub(crate) const ROW_AHEAD: usize = 32;
+pub(crate) const EDGES_AHEAD: usize = 16;
+
+/// Ask for the cache line holding `pointer`; a hint that never faults.
+#[inline(always)]
+pub(crate) fn prefetch<T>(pointer: *const T) {
+    #[cfg(target_arch = "x86_64")]
+    // SAFETY: prefetching is a hint; it never faults and reads nothing the
+    // program sees, whatever the address (even one past any allocation).
+    unsafe {
+        core::arch::x86_64::_mm_prefetch(pointer as *const i8, core::arch::x86_64::_MM_HINT_T0)
+    };
+    #[cfg(not(target_arch = "x86_64"))]
+    let _ = pointer;
+}
+
+/// Hooks into the FIFO loop, for sweeps that compute per-node values along
+/// the order; the unit type is plain Kahn's algorithm (the hooks compile away).
+pub(crate) trait FifoHooks {
+    /// Node `u` (`< n`) is emitted from queue `position`; `tail` is the
+    /// queue length before its successors are examined.
+    #[inline(always)]
+    fn emit(&mut self, _position: usize, _u: usize, _tail: usize) {}
+    /// Stored edge number `edge`, `u -> v` (`v < n`), is examined (in row order).
+    #[inline(always)]
+    fn edge(&mut self, _u: usize, _edge: usize, _v: usize) {}
+}
+
+impl FifoHooks for () {}
+
+/// FIFO Kahn's loop: the output itself is the queue (emitted nodes are a
+/// prefix of it, ready nodes the rest), so no second buffer is needed.
+///
+/// `indegree` holds the in-degree of each of the `n` nodes (from
+/// [`Csr::in_degree_counts`]); `order` is replaced. Stops early, with
+/// [`Error::InputChanged`], if the arrays change under it, and with
+/// [`Error::Interrupted`] on a stop request.
+pub(crate) fn run_queue<I: Idx, C: Count, H: FifoHooks>(
+    csr: &Csr<'_, I>,
+    indegree: &mut [C],
+    order: &mut Vec<I>,
+    hooks: &mut H,
+) -> Result<(), Error> {
+    let n = csr.n();
+    if indegree.len() != n {
+        return Err(Error::Internal { reason: "run_queue: bad buffers".into() });
+    }
+    // The queue is the spare capacity of `order`: slots `..tail` are
+    // written, the rest untouched (no up-front fill: on repeated calls the
+    // allocator hands back dirty memory that zeroing would have to clear).
+    // The bounds check of each write (`tail < n`) is also the check that no
+    // node is queued twice, which only a changed input could cause.
+    *order = alloc::with_capacity("order", n)?;
+    let Some(queue) = order.spare_capacity_mut().get_mut(..n) else {
+        return Err(Error::Internal { reason: "run_queue: short buffer".into() });
+    };
+    let (indptr, indices) = (csr.indptr(), csr.indices());
+    let changed = |what| Err(Error::InputChanged { what });
+    let mut tail = 0usize;
+    for (v, d) in indegree.iter().enumerate() {
+        if d.is_zero() {
+            if let Some(slot) = queue.get_mut(tail) {
+                slot.write(I::from_usize(v));
+                tail += 1;
+            }
+        }
+    }
+    // Invariant: `queue[..tail]` is initialised (`tail` grows only right
+    // after a write), and `tail <= n`.
+    let written = |queue: &[std::mem::MaybeUninit<I>], at: usize, tail: usize| {
+        // SAFETY: `at < tail`, and every slot below `tail` was written.
+        (at < tail).then(|| unsafe { queue[at].assume_init_read() })
+    };
+    let mut ticker = Ticker::new();
+    let mut head = 0usize;
+    while let Some(u) = written(queue, head, tail) {
+        if let Some(ahead) = written(queue, head + ROW_AHEAD, tail) {
+            prefetch(indptr.as_ptr().wrapping_add(ahead.to_usize()));
+        }
+        if let Some(start) =
+            written(queue, head + EDGES_AHEAD, tail).and_then(|a| indptr.get(a.to_usize()))
+        {
+            prefetch(indices.as_ptr().wrapping_add(start.to_usize()));
+        }
+        // Queued ids are all below n (they passed `indegree.get_mut`).
+        let u = u.to_usize();
+        hooks.emit(head, u, tail);
+        head += 1;
+        let (start, row) = csr.checked_row_at(u)?;
+        ticker.tick()?;
+        for (offset, &v) in row.iter().enumerate() {
+            let Some(count) = indegree.get_mut(v.to_usize()) else {
+                return changed("indices");
+            };
+            hooks.edge(u, start + offset, v.to_usize());
+            if count.decrement() {
+                let Some(slot) = queue.get_mut(tail) else {
+                    return changed("indices");
+                };
+                slot.write(v);
+                tail += 1;
+            }
+        }
+    }
+    // SAFETY: the first `tail` slots are initialised (the invariant above)
+    // and `tail <= n <= capacity`.
+    unsafe { order.set_len(tail) };
+    Ok(())
+}
 
 /// What a sweep yields: the value on a DAG, or what Kahn's loop found on a
 /// graph with a cycle (blocked nodes and one cycle), so callers can report it.
@@ -110,10 +237,10 @@ where
 {
     let n = csr.n();
     let mut indegree: Vec<K> = csr.in_degree_counts()?;
-    let mut order: Vec<I> = Vec::with_capacity(n);
-    let mut sweep =
-        Sweep { values: vec![init; n], passed: None, offsets: vec![0], level_end: 0, emit, visit };
-    run_queue(csr, &mut indegree, &mut order, &mut sweep);
+    let mut order: Vec<I> = Vec::new();
+    let values = alloc::filled("sweep values", n, init)?;
+    let mut sweep = Sweep { values, passed: None, offsets: vec![0], level_end: 0, emit, visit };
+    run_queue(csr, &mut indegree, &mut order, &mut sweep)?;
     if order.len() < n {
         // The cycle witness is worth a second pass only on this error path.
         return Ok(Err(kahn(csr, &Tie::Queue)?));
@@ -129,15 +256,74 @@ where
 /// hand out; deep, narrow graphs would otherwise pay a pool round trip per level.
 pub const SERIAL_FRONTIER: usize = 1024;
 
+/// Call `step(u)` for every node of `order` (a topological order), first to
+/// last, fetching the rows `step` will read a few nodes ahead: a forward
+/// pass when the order is already known.
+pub fn forward<I, F>(csr: &Csr<'_, I>, order: &[I], mut step: F) -> Result<(), Error>
+where
+    I: Idx,
+    F: FnMut(usize) -> Result<(), Error>,
+{
+    let mut ticker = Ticker::new();
+    walk(csr, order.iter(), |u| {
+        ticker.tick()?;
+        step(u)
+    })
+}
+
+/// `step` each node `nodes` yields, fetching the rows a
+/// few nodes ahead (the order is known in advance, as in the FIFO loop).
+#[inline(always)]
+fn walk<'o, I, F>(
+    csr: &Csr<'_, I>,
+    nodes: impl Iterator<Item = &'o I> + Clone,
+    mut step: F,
+) -> Result<(), Error>
+where
+    I: Idx,
+    F: FnMut(usize) -> Result<(), Error>,
+{
+    let (indptr, indices) = (csr.indptr(), csr.indices());
+    let mut rows_ahead = nodes.clone().skip(ROW_AHEAD);
+    let mut edges_ahead = nodes.clone().skip(EDGES_AHEAD);
+    for u in nodes {
+        if let Some(ahead) = rows_ahead.next() {
+            prefetch(indptr.as_ptr().wrapping_add(ahead.to_usize()));
+        }
+        if let Some(start) = edges_ahead.next().and_then(|a| indptr.get(a.to_usize())) {
+            prefetch(indices.as_ptr().wrapping_add(start.to_usize()));
+        }
+        step(u.to_usize())?;
+    }
+    Ok(())
+}
+
+/// Whether a backward pass over `levels` is worth sharing among threads:
+/// only when the levels are wide enough that every hand-off moves many
+/// nodes. Measured on the 1M-node, 10M-edge citation benchmark graph (2
+/// cores): sharing its wide levels saved about a third of the pass; deep,
+/// narrow graphs pay a pool round trip per level and lose.
+pub fn worth_sharing<I>(levels: &LevelOrder<I>, threads: usize) -> bool {
+    let n = levels.order.len();
+    let depth = levels.offsets.len().saturating_sub(1).max(1);
+    threads > 1 && n >= SHARE_MIN_NODES && n / depth >= SHARE_MIN_WIDTH
+}
+
+/// A graph this small is done before a pool would have handed out its work.
+const SHARE_MIN_NODES: usize = 1 << 16;
+/// Below this average level width the per-level hand-off outweighs the work.
+const SHARE_MIN_WIDTH: usize = 4 * SERIAL_FRONTIER;
+
 /// Call `settle(u)` once for every node, from the last level down, so that
 /// each node's successors (all on higher levels) are settled before it.
 ///
-/// With `threads > 1` the nodes of a level are shared among the workers, and
+/// With `threads > 1` (and levels wide enough to pay, see
+/// [`worth_sharing`]) the nodes of a level are shared among the workers, and
 /// a level starts only when the one above is finished. A `settle` that
 /// reads only the slots of `u`'s successors and writes only `u`'s own (its
 /// node and the edges of its row) therefore never races, and gives the same
 /// result as one thread, bit for bit; that is the contract under which it
-/// may use [`Disjoint`].
+/// may use [`Disjoint`]. The first error any `settle` returns ends the pass.
 pub fn settle_backward<I, F>(
     csr: &Csr<'_, I>,
     levels: &LevelOrder<I>,
@@ -146,52 +332,36 @@ pub fn settle_backward<I, F>(
 ) -> Result<(), Error>
 where
     I: Idx,
-    F: Fn(usize) + Sync,
+    F: Fn(usize) -> Result<(), Error> + Sync,
 {
-    if threads <= 1 {
-        // The order is known in advance, so the rows `settle` will read are
-        // fetched a few steps ahead, as in the FIFO loop.
-        let (indptr, indices, order) = (csr.indptr(), csr.indices(), &levels.order);
-        for k in (0..order.len()).rev() {
-            if let Some(ahead) = k.checked_sub(ROW_AHEAD) {
-                prefetch(indptr.as_ptr().wrapping_add(order[ahead].to_usize()));
-            }
-            if let Some(ahead) = k.checked_sub(EDGES_AHEAD) {
-                let start = indptr[order[ahead].to_usize()].to_usize();
-                prefetch(indices.as_ptr().wrapping_add(start));
-            }
-            settle(order[k].to_usize());
-        }
-        return Ok(());
+    if !worth_sharing(levels, threads) {
+        let mut ticker = Ticker::new();
+        return walk(csr, levels.order.iter().rev(), |u| {
+            ticker.tick()?;
+            settle(u)
+        });
     }
-    pool(threads)?.install(|| {
-        for group in levels.offsets.windows(2).rev() {
-            let group = &levels.order[group[0]..group[1]];
-            if group.len() < SERIAL_FRONTIER {
-                settle_nodes(csr, group, &settle);
-            } else {
-                // Nodes of one level have no edges among them: any split works.
+    let mut ticker = Ticker::new();
+    let pool = pool(threads)?;
+    for group in levels.offsets.windows(2).rev() {
+        let group = levels
+            .order
+            .get(group[0]..group[1])
+            .ok_or(Error::Internal { reason: "level offsets out of order".into() })?;
+        // Interrupt checks stay on the calling thread, between levels.
+        ticker.tick_by(group.len())?;
+        if group.len() < SERIAL_FRONTIER {
+            walk(csr, group.iter(), &settle)?;
+        } else {
+            // Nodes of one level have no edges among them: any split works.
+            pool.install(|| {
                 group
                     .par_chunks(SERIAL_FRONTIER)
-                    .for_each(|chunk| settle_nodes(csr, chunk, &settle));
-            }
+                    .try_for_each(|chunk| walk(csr, chunk.iter(), &settle))
+            })?;
         }
-    });
-    Ok(())
-}
-
-/// `settle` each of `nodes` in turn, fetching rows a few nodes ahead.
-fn settle_nodes<I: Idx, F: Fn(usize)>(csr: &Csr<'_, I>, nodes: &[I], settle: &F) {
-    let (indptr, indices) = (csr.indptr(), csr.indices());
-    for (k, u) in nodes.iter().enumerate() {
-        if let Some(ahead) = nodes.get(k + ROW_AHEAD) {
-            prefetch(indptr.as_ptr().wrapping_add(ahead.to_usize()));
-        }
-        if let Some(ahead) = nodes.get(k + EDGES_AHEAD) {
-            prefetch(indices.as_ptr().wrapping_add(indptr[ahead.to_usize()].to_usize()));
-        }
-        settle(u.to_usize());
     }
+    Ok(())
 }
 
 /// A mutable slice that the workers of [`settle_backward`] write at
@@ -216,14 +386,18 @@ impl<'a, T: Copy> Disjoint<'a, T> {
         Disjoint { start: slice.as_mut_ptr(), len: slice.len(), _borrow: PhantomData }
     }
 
-    /// The value at `index`.
+    /// The value at `index`; [`Error::InputChanged`] when `index` is out
+    /// of bounds (it came from input that changed).
     ///
     /// # Safety
     /// No other thread may be writing `index` at the same time.
     #[inline(always)]
-    pub unsafe fn get(&self, index: usize) -> T {
-        assert!(index < self.len, "Disjoint index {index} out of {}", self.len);
-        *self.start.add(index)
+    pub unsafe fn get(&self, index: usize) -> Result<T, Error> {
+        if index >= self.len {
+            return Err(Error::InputChanged { what: "indices" });
+        }
+        // SAFETY: in bounds (checked above); no concurrent writer (caller).
+        Ok(unsafe { *self.start.add(index) })
     }
 
     /// The positions `range`, to fill in.
@@ -232,13 +406,12 @@ impl<'a, T: Copy> Disjoint<'a, T> {
     /// No other thread may touch `range` while the returned slice lives.
     #[inline(always)]
     #[allow(clippy::mut_from_ref)]
-    pub unsafe fn range_mut(&self, range: std::ops::Range<usize>) -> &mut [T] {
-        assert!(
-            range.start <= range.end && range.end <= self.len,
-            "Disjoint range {range:?} out of {}",
-            self.len
-        );
-        std::slice::from_raw_parts_mut(self.start.add(range.start), range.len())
+    pub unsafe fn range_mut(&self, range: std::ops::Range<usize>) -> Result<&mut [T], Error> {
+        if range.start > range.end || range.end > self.len {
+            return Err(Error::InputChanged { what: "indptr" });
+        }
+        // SAFETY: in bounds (checked above); exclusive for its lifetime (caller).
+        Ok(unsafe { std::slice::from_raw_parts_mut(self.start.add(range.start), range.len()) })
     }
 
     /// Write `value` at `index`.
@@ -246,9 +419,13 @@ impl<'a, T: Copy> Disjoint<'a, T> {
     /// # Safety
     /// No other thread may be reading or writing `index` at the same time.
     #[inline(always)]
-    pub unsafe fn set(&self, index: usize, value: T) {
-        assert!(index < self.len, "Disjoint index {index} out of {}", self.len);
-        *self.start.add(index) = value;
+    pub unsafe fn set(&self, index: usize, value: T) -> Result<(), Error> {
+        if index >= self.len {
+            return Err(Error::InputChanged { what: "indices" });
+        }
+        // SAFETY: in bounds (checked above); no concurrent access (caller).
+        unsafe { *self.start.add(index) = value };
+        Ok(())
     }
 }
 
@@ -334,6 +511,35 @@ mod tests {
             fifo_sweep(&bad, (), |_, _| (), |_, _, _, _| {}),
             Err(Error::IndexOutOfRange { value: 4, .. })
         ));
+    }
+
+    #[test]
+    fn wide_levels_are_shared_and_give_the_serial_result() {
+        // Three layers of 30 000 nodes, each node with two edges into the
+        // next layer: wide enough that the backward pass goes to the pool.
+        let width = 30_000i64;
+        let (mut src, mut dst) = (Vec::new(), Vec::new());
+        for layer in 0..2 {
+            for k in 0..width {
+                let u = layer * width + k;
+                src.extend([u, u]);
+                dst.extend([(layer + 1) * width + k, (layer + 1) * width + (k * 7 + 1) % width]);
+            }
+        }
+        let n = 3 * width as usize;
+        let g = edges_to_csr(&src, &dst, n, false).unwrap();
+        let csr = Csr::new(&g.indptr, &g.indices).unwrap();
+        let levels = crate::levels::level_order(&csr, 1).unwrap().unwrap();
+        assert!(worth_sharing(&levels, 2) && !worth_sharing(&levels, 1));
+        let one = crate::levels::heights(&csr, &levels, 1).unwrap();
+        assert_eq!(crate::levels::heights(&csr, &levels, 2).unwrap(), one);
+        // By construction: layer 0 has height 2, layer 1 height 1, layer 2 sinks.
+        let layer = |v: usize| v / width as usize;
+        assert!(one.iter().enumerate().all(|(v, &h)| h as usize == 2 - layer(v)));
+        let counts = crate::paths::path_counts(&csr, 1).unwrap().unwrap();
+        assert_eq!(crate::paths::path_counts(&csr, 2).unwrap().unwrap(), counts);
+        // Every source starts 2 * 2 paths (two choices per step).
+        assert_eq!(counts.total, 4.0 * width as f64);
     }
 
     #[test]

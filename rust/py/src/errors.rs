@@ -59,6 +59,7 @@ impl From<CoreError> for PyErr {
             | Error::NoWorkers
             | Error::BadWeight { .. }
             | Error::NoSuchNode { .. }
+            | Error::Overflow { .. }
             | Error::InputChanged { .. } => input_error(message),
         }
     }

@@ -6,6 +6,7 @@ use pyo3::prelude::*;
 use pyo3::IntoPyObjectExt;
 use toporank_core::schedule::{self, Duration, Policy, Scheduled};
 use toporank_core::Csr;
+use toporank_core::{Key, KeyValues, Tie};
 
 use crate::common::{
     array, compute, cyclic, has_dtype, on_graph, read, read_optional, Array, Index, OnGraph,
@@ -108,10 +109,12 @@ fn list_schedule<'py>(
     let rank = read_optional::<u64>(rank, "rank", "uint64")?;
     let rank = rank.as_ref().map(|r| r.values()).transpose()?;
     let policy = match policy {
-        "queue" => Policy::Queue,
-        "stack" => Policy::Stack,
-        "priority" => Policy::Ranked(rank),
-        "random" => Policy::Random { seed },
+        "queue" => Policy::Tie(Tie::Queue),
+        "stack" => Policy::Tie(Tie::Stack),
+        "priority" => {
+            Policy::Tie(Tie::Priority(Key { values: rank.map(KeyValues::U64), descending: false }))
+        }
+        "random" => Policy::Tie(Tie::Random { seed }),
         "critical" => Policy::CriticalPath,
         other => {
             let choices = "('queue', 'stack', 'priority', 'random', 'critical')";

@@ -46,12 +46,18 @@ impl<'py> OnGraph<'py> for LevelsOf {
         let (threads, grouped) = (self.threads, self.grouped);
         let swept = compute(py, || {
             let csr = Csr::new(indptr, indices)?;
-            Ok(level_sweep::level_order(&csr, threads)?.map(|order| {
-                let level = level_sweep::levels_from(&order, threads);
-                let nodes = grouped.then(|| level_sweep::grouped(&level, &order.offsets));
-                let offsets: Vec<i64> = order.offsets.iter().map(|&k| k as i64).collect();
-                (level, nodes, grouped.then_some(offsets))
-            }))
+            match level_sweep::level_order(&csr, threads)? {
+                Err(cyclic) => Ok(Err(cyclic)),
+                Ok(order) => {
+                    let level = level_sweep::levels_from(&order, threads)?;
+                    let nodes = match grouped {
+                        true => Some(level_sweep::grouped(&level, &order.offsets)?),
+                        false => None,
+                    };
+                    let offsets: Vec<i64> = order.offsets.iter().map(|&k| k as i64).collect();
+                    Ok(Ok((level, nodes, grouped.then_some(offsets))))
+                }
+            }
         })?;
         either(py, swept, |(level, nodes, offsets)| Levels {
             level: array(py, level),

@@ -1,0 +1,106 @@
+"""Hostile use of the core engine: a crash, an abort or a silent wrong answer
+must never come out of these, only a documented exception."""
+
+from __future__ import annotations
+
+import subprocess
+import sys
+import textwrap
+
+import numpy as np
+import pytest
+
+import toporank
+from toporank import GraphInputError
+
+
+def _run(script: str) -> subprocess.CompletedProcess[str]:
+    return subprocess.run(
+        [sys.executable, "-c", textwrap.dedent(script)],
+        capture_output=True,
+        text=True,
+        timeout=240,
+    )
+
+
+def test_sums_of_finite_weights_that_overflow_raise_naming_the_node():
+    # 3 * 1e308 exceeds the largest float64, about 1.797e308 (IEEE 754).
+    chain = (np.array([0, 1]), np.array([1, 2]))
+    with pytest.raises(GraphInputError, match="overflows at node 1"):
+        toporank.critical_path(chain, node_weight=[1e308] * 3)
+    # Just below the limit still works: 3 * 5e307 = 1.5e308 (common practice).
+    result = toporank.critical_path(chain, node_weight=[5e307] * 3)
+    assert result.length == 1.5e308
+
+
+def test_an_absurd_node_count_is_an_exception_not_an_abort():
+    result = _run(
+        """
+        import numpy as np, toporank
+        try:
+            toporank.order((np.array([0]), np.array([1])), n=2**40)
+        except (MemoryError, ValueError) as e:
+            assert "1099511627777" in str(e), str(e)
+            print("raised")
+        """
+    )
+    assert result.returncode == 0, result.stderr
+    assert result.stdout.strip() == "raised"
+
+
+def test_input_written_by_another_thread_mid_call_never_crashes():
+    # A second Python thread scribbles over indptr and indices while the
+    # GIL-free core reads them: each call must return or raise a ValueError
+    # subclass (the input changed), and the process must survive.
+    result = _run(
+        """
+        import threading
+        import numpy as np, toporank
+        from toporank._synthetic import citation_dag
+
+        n = 200_000
+        src, dst, _ = citation_dag(n, 10, seed=1)
+        built = toporank.Graph.from_edges(src, dst, n=n)
+        indptr, indices = built.indptr.copy(), built.indices.copy()
+        graph = toporank.Graph.from_csr(indptr, indices)
+        calls = [
+            lambda: toporank.order(graph),
+            lambda: toporank.order(graph, tie="priority"),
+            lambda: toporank.levels(graph),
+            lambda: toporank.heights(graph, threads=2),
+            lambda: toporank.critical_path(graph, threads=2),
+            lambda: toporank.path_counts(graph, threads=2),
+        ]
+        stop = threading.Event()
+
+        def scribble():
+            # Write garbage, then put the true values back, so that calls
+            # start on valid input and see it change while they run.
+            rng = np.random.default_rng(0)
+            while not stop.is_set():
+                at = rng.integers(0, len(indices), 64)
+                rows = rng.integers(1, n, 4)
+                kept, kept_rows = indices[at], indptr[rows]
+                indices[at] = rng.integers(-3, 2 * n, 64)
+                indptr[rows] = rng.integers(-3, 2 * len(indices), 4)
+                indices[at], indptr[rows] = kept, kept_rows
+
+        thread = threading.Thread(target=scribble)
+        thread.start()
+        seen = set()
+        try:
+            for _ in range(6):
+                for call in calls:
+                    try:
+                        call()
+                        seen.add("returned")
+                    except ValueError as e:
+                        seen.add(type(e).__name__)
+        finally:
+            stop.set()
+            thread.join()
+        print(sorted(seen))
+        """
+    )
+    assert result.returncode == 0, result.stderr[-2000:]
+    assert result.stdout.startswith("["), result.stdout
