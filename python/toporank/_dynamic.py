@@ -10,7 +10,8 @@ import numpy as np
 
 from . import _core
 from ._errors import CyclicGraphError, GraphInputError
-from ._graph import Graph, as_graph, integer_ids
+from ._graph import Graph, as_graph
+from ._validate import integer_ids
 
 __all__ = ["DynamicOrder"]
 
