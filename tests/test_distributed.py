@@ -211,8 +211,15 @@ def test_kernel_widths_agree_and_reject_bad_messages(dtype):
 
     # One shard of two own nodes (0 -> 1) and one outside slot owned by group 1.
     remaining, level = a(0, 1), a(0, 0)
-    peeled, slots, counts, levels, offsets = toporank._core.peel_shard(
+    step = toporank._core.peel_shard(
         a(0, 2, 2), a(1, 2), a(1), 2, remaining, level, a(), a(), a(), True
+    )
+    peeled, slots, counts, levels, offsets = (
+        step.peeled,
+        step.slots,
+        step.counts,
+        step.levels,
+        step.offsets,
     )
     assert (peeled, level.tolist(), remaining.tolist()) == (2, [0, 1], [0, 0])
     assert (slots.tolist(), counts.tolist(), levels.tolist()) == ([0], [1], [1])
