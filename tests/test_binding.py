@@ -106,9 +106,16 @@ def test_results_are_frozen():
         found.count = 7  # type: ignore[misc]
 
 
-def test_mismatched_widths_are_named():
-    with pytest.raises(GraphInputError, match="indptr and indices"):
-        _core.kahn_order(np.array([0, 0], dtype=np.int64), np.array([], dtype=np.int32), "queue")
+def test_unsupported_widths_are_named():
+    # Mixed widths are read as they are: int64 offsets with int32 ids.
+    order = _core.kahn_order(np.array([0, 1, 1], dtype=np.int64), np.array([1], np.int32), "queue")
+    assert order.tolist() == [0, 1] and order.dtype == np.int32
+    with pytest.raises(GraphInputError, match="indptr must be a 1-D numpy array of int32 or int64"):
+        _core.kahn_order(np.array([0, 0], dtype=np.int16), np.array([], dtype=np.int32), "queue")
+    with pytest.raises(GraphInputError, match=r"indices must be .* int32, int64 or uint32"):
+        _core.kahn_order(np.array([0, 0], dtype=np.int64), np.array([], dtype=np.uint64), "queue")
+    with pytest.raises(GraphInputError, match="src and dst must be 1-D numpy arrays of one dtype"):
+        _core.edges_to_csr(np.array([0], dtype=np.int64), np.array([1], dtype=np.int32), 2)
     with pytest.raises(GraphInputError, match="key must be a 1-D numpy array"):
         _core.kahn_order(np.array([0, 0]), np.array([], dtype=np.int64), "priority", [1])
 

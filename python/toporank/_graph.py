@@ -2,7 +2,9 @@
 
 This is the only module that inspects user input; the compiled core then
 trusts dtypes and shapes (it still checks every node id, cheaply, while it
-works). int32 and int64 index arrays are used without copying.
+works). CSR arrays are used without copying when ``indptr`` is int32 or
+int64 and ``indices`` is int32, int64 or uint32, in any combination; any
+other integer dtype is widened to int64 (a copy).
 """
 
 from __future__ import annotations
@@ -34,8 +36,10 @@ class Graph:
     Attributes
     ----------
     indptr, indices : numpy.ndarray
-        CSR arrays of one dtype, int32 or int64. Not copied from the input
-        when it already had that form; do not mutate them during a call.
+        CSR arrays: ``indptr`` int32 or int64, ``indices`` int32, int64 or
+        uint32, each with its own width (int64 offsets with int32 ids is the
+        usual layout of large graphs). Not copied from the input when it
+        already had such a form; do not mutate them during a call.
     labels : numpy.ndarray or None
         For graphs built from labelled pairs: ``labels[i]`` is node ``i``'s
         label (numbered in first-seen order); ``None`` for integer graphs.
@@ -99,15 +103,14 @@ class Graph:
     def from_csr(cls, indptr: Any, indices: Any) -> Graph:
         """A graph from CSR arrays (``indptr`` of length ``n + 1``)."""
         indptr = _index_array(indptr, "indptr")
-        indices = _index_array(indices, "indices")
+        indices = _index_array(indices, "indices", ids=True)
         if indptr.ndim != 1 or indices.ndim != 1:
             raise GraphInputError(
                 f"indptr and indices must be 1-D, got shapes {indptr.shape} and {indices.shape}"
             )
         if len(indptr) == 0:
             raise GraphInputError("indptr is empty; it needs n + 1 entries for n nodes")
-        indptr, indices = _same_width(indptr, indices, max(len(indptr), len(indices)))
-        return cls(indptr, indices)
+        return cls(indptr, _ids_for(indices, len(indptr) - 1))
 
     @classmethod
     def from_edges(cls, src: Any, dst: Any, n: int | None = None) -> Graph:
@@ -180,9 +183,8 @@ class Graph:
         n = int(shape[0])
         if matrix.format == "csr":
             indptr = _index_array(matrix.indptr, "indptr")
-            indices = _index_array(matrix.indices, "indices")
-            indptr, indices = _same_width(indptr, indices, max(n + 1, len(indices)))
-            return cls(indptr, indices)
+            indices = _index_array(matrix.indices, "indices", ids=True)
+            return cls(indptr, _ids_for(indices, n))
         coo = matrix.tocoo()
         return cls.from_edges(coo.row, coo.col, n)
 
@@ -241,19 +243,30 @@ def _check_n(n: int | None, actual: int, what: str) -> None:
         raise GraphInputError(f"n = {n} disagrees with {what} of {actual} nodes")
 
 
-def _index_array(values: Any, name: str) -> np.ndarray:
-    """``values`` as an int32 or int64 array, without a copy when it already is one."""
+def _index_array(values: Any, name: str, ids: bool = False) -> np.ndarray:
+    """``values`` as an index array the core reads, without a copy when it already is one.
+
+    int32 and int64 are kept (and uint32 for node ids, ``ids=True``); any
+    other integer dtype is widened to int64.
+    """
     array = values if isinstance(values, np.ndarray) else np.asarray(values)
     kind = array.dtype.kind
     if kind == "b" or kind not in "iu":
         hint = "" if kind != "f" else "; node ids must be integers (cast with .astype(np.int64))"
         raise GraphInputError(f"{name} has dtype {array.dtype}, expected integers{hint}")
-    if array.dtype in (np.int32, np.int64):
+    if array.dtype in (np.int32, np.int64) or (ids and array.dtype == np.uint32):
         return np.ascontiguousarray(array)
     if array.dtype == np.uint64 and array.size and int(array.max()) > np.iinfo(np.int64).max:
         position = int(array.argmax())
         raise GraphInputError(f"{name}[{position}] = {int(array[position])} is too large a node id")
     return np.ascontiguousarray(array, dtype=np.int64)
+
+
+def _ids_for(indices: np.ndarray, n: int) -> np.ndarray:
+    """``indices`` as they are, or widened to int64 when ``n`` node ids do not fit their dtype."""
+    if n > np.iinfo(indices.dtype).max:
+        return indices.astype(np.int64)
+    return indices
 
 
 def _same_width(a: np.ndarray, b: np.ndarray, largest: int) -> tuple[np.ndarray, np.ndarray]:

@@ -89,7 +89,7 @@ def _levels_despite_cycles(g: Graph, on_cycle: str, threads: int, backward: bool
 
 def _grouped(g: Graph, level: np.ndarray) -> list[np.ndarray]:
     """The nodes of level 0, 1, ... (ascending id inside a level; level -1 left out)."""
-    ids = np.argsort(level, kind="stable").astype(g.indptr.dtype, copy=False)
+    ids = np.argsort(level, kind="stable").astype(g.indices.dtype, copy=False)
     ids = ids[level[ids] >= 0]
     bounds = np.searchsorted(level[ids], np.arange(int(level.max(initial=-1)) + 2))
     nodes = as_nodes(g, ids)
@@ -97,7 +97,7 @@ def _grouped(g: Graph, level: np.ndarray) -> list[np.ndarray]:
 
 
 def _all_nodes(g: Graph) -> np.ndarray:
-    return as_nodes(g, np.arange(g.n, dtype=g.indptr.dtype))
+    return as_nodes(g, np.arange(g.n, dtype=g.indices.dtype))
 
 
 def levels(

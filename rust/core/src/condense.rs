@@ -34,21 +34,24 @@ const TAG_SHIFT: u32 = 1;
 /// condensation under `tie` (see the module documentation).
 ///
 /// O(V + E), plus a log factor for the priority policy.
-pub fn condensed_order<I: Idx>(csr: &Csr<'_, I>, tie: &Tie<'_>) -> Result<Vec<I>, Error> {
+pub fn condensed_order<I: Idx, P: Idx>(
+    csr: &Csr<'_, I, P>,
+    tie: &Tie<'_>,
+) -> Result<Vec<I>, Error> {
     let n = csr.n();
     if let Tie::Priority(Key { values: Some(values), .. }) = tie {
         values.check(n)?;
     }
     let (components, entered) = strong_components_with_entries(csr)?;
     if 2 * csr.m() < u32::MAX as usize {
-        run_policy::<I, u32>(csr, tie, components.labels, components.count, entered)
+        run_policy::<I, P, u32>(csr, tie, components.labels, components.count, entered)
     } else {
-        run_policy::<I, u64>(csr, tie, components.labels, components.count, entered)
+        run_policy::<I, P, u64>(csr, tie, components.labels, components.count, entered)
     }
 }
 
-fn run_policy<I: Idx, W: Count>(
-    csr: &Csr<'_, I>,
+fn run_policy<I: Idx, P: Idx, W: Count>(
+    csr: &Csr<'_, I, P>,
     tie: &Tie<'_>,
     labels: Vec<I>,
     count: usize,
@@ -96,27 +99,27 @@ fn run_policy<I: Idx, W: Count>(
     Ok(order)
 }
 
-struct Run<'a, 'g, I: Idx, W> {
-    emit: Emit<'a, 'g, I>,
+struct Run<'a, 'g, I: Idx, P: Idx, W> {
+    emit: Emit<'a, 'g, I, P>,
     waiting: &'a mut [W],
     order: &'a mut Vec<I>,
 }
 
-impl<I: Idx, W: Count> WithReady for Run<'_, '_, I, W> {
+impl<I: Idx, P: Idx, W: Count> WithReady for Run<'_, '_, I, P, W> {
     type Output = Result<(), Error>;
     fn run<R: ReadySet>(self, mut ready: R) -> Result<(), Error> {
         self.emit.run(self.waiting, &mut ready, self.order)
     }
 }
 
-struct Emit<'a, 'g, I: Idx> {
-    csr: &'a Csr<'g, I>,
+struct Emit<'a, 'g, I: Idx, P: Idx> {
+    csr: &'a Csr<'g, I, P>,
     labels: &'a [I],
     start: &'a [usize],
     members: &'a [I],
 }
 
-impl<I: Idx> Emit<'_, '_, I> {
+impl<I: Idx, P: Idx> Emit<'_, '_, I, P> {
     /// Kahn's loop over components. `waiting[v] >> 1` counts the edges into
     /// node `v` from other components not yet examined, and a component is
     /// ready once all its members are at zero. An edge whose target is at

@@ -32,8 +32,8 @@ const NONE: usize = usize::MAX;
 /// the length, and steps back each time to the smallest-id predecessor that
 /// fixes the current node's earliest start. The backward pass (latest
 /// starts) runs on `threads` workers, with the same result for any count.
-pub fn critical_path<I: Idx>(
-    csr: &Csr<'_, I>,
+pub fn critical_path<I: Idx, P: Idx>(
+    csr: &Csr<'_, I, P>,
     node_weight: Weights<'_>,
     edge_weight: Weights<'_>,
     threads: usize,

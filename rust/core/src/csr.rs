@@ -11,16 +11,31 @@ use crate::{Error, Idx};
 /// `indptr` (O(V)); the endpoints in `indices` are checked by
 /// [`Csr::in_degrees`] or [`Csr::check_indices`] (O(E)) before any algorithm
 /// uses them as positions.
+///
+/// The two arrays have their own widths: `I` for the node ids in `indices`,
+/// `P` (by default the same) for the edge positions in `indptr`, so int64
+/// offsets with int32 ids are read as they are, without a copy. Node ids
+/// that come back (orders, components) have width `I`: construction checks
+/// that every node id fits it.
 #[derive(Debug, Clone, Copy)]
-pub struct Csr<'a, I: Idx> {
-    indptr: &'a [I],
+pub struct Csr<'a, I: Idx, P: Idx = I> {
+    indptr: &'a [P],
     indices: &'a [I],
 }
 
 impl<'a, I: Idx> Csr<'a, I> {
-    /// Wrap `indptr`/`indices`, checking that `indptr` starts at 0, never
-    /// decreases and ends at `indices.len()`.
+    /// Wrap `indptr`/`indices` of one width; see [`Csr::from_arrays`] for
+    /// two widths (and the checks made).
     pub fn new(indptr: &'a [I], indices: &'a [I]) -> Result<Self, Error> {
+        Csr::from_arrays(indptr, indices)
+    }
+}
+
+impl<'a, I: Idx, P: Idx> Csr<'a, I, P> {
+    /// Wrap `indptr`/`indices`, each of its own width, checking that
+    /// `indptr` starts at 0, never decreases and ends at `indices.len()`, and
+    /// that the largest node id, `n - 1`, fits the width of `indices`.
+    pub fn from_arrays(indptr: &'a [P], indices: &'a [I]) -> Result<Self, Error> {
         let first = *indptr.first().ok_or(Error::EmptyIndptr)?;
         if first.to_i128() != 0 {
             return Err(Error::IndptrStart { value: first.to_i128() });
@@ -38,6 +53,10 @@ impl<'a, I: Idx> Csr<'a, I> {
         if last.to_i128() != indices.len() as i128 {
             return Err(Error::IndptrEnd { value: last.to_i128(), len: indices.len() });
         }
+        let n = indptr.len() - 1;
+        if n > I::MAX_USIZE {
+            return Err(Error::TooLarge { what: "node count", count: n, max: I::MAX_USIZE });
+        }
         Ok(Csr { indptr, indices })
     }
 
@@ -54,7 +73,7 @@ impl<'a, I: Idx> Csr<'a, I> {
     }
 
     #[inline]
-    pub fn indptr(&self) -> &'a [I] {
+    pub fn indptr(&self) -> &'a [P] {
         self.indptr
     }
 
@@ -187,13 +206,13 @@ impl<'a, I: Idx> Csr<'a, I> {
     }
 
     /// In-degree of every node, counting duplicates and self-loops; checks
-    /// every endpoint on the way.
-    pub fn in_degrees(&self) -> Result<Vec<I>, Error> {
-        // Counts fit I: each is at most m, and m fits I because indptr does.
-        let mut indegree: Vec<I> = crate::alloc::zeroed("in-degrees", self.n())?;
+    /// every endpoint on the way. Counts have the width of `indptr`.
+    pub fn in_degrees(&self) -> Result<Vec<P>, Error> {
+        // Counts fit P: each is at most m, and m fits P because indptr holds it.
+        let mut indegree: Vec<P> = crate::alloc::zeroed("in-degrees", self.n())?;
         for (position, v) in self.indices.iter().enumerate() {
             match indegree.get_mut(v.to_usize()) {
-                Some(slot) => *slot = I::from_usize(slot.to_usize() + 1),
+                Some(slot) => *slot = P::from_usize(slot.to_usize() + 1),
                 None => return Err(self.out_of_range(position)),
             }
         }
@@ -303,5 +322,35 @@ mod tests {
         assert!(bad.check_indices().is_err());
         let bad = Csr::new(&[0i32, 1, 1], &[2]).unwrap();
         assert!(matches!(bad.check_indices(), Err(Error::IndexOutOfRange { value: 2, .. })));
+    }
+
+    #[test]
+    fn mixed_widths_give_the_results_of_one_width() {
+        use crate::ready::Tie;
+        let mut rng = crate::rng::SplitMix64::new(17);
+        for _ in 0..50 {
+            let (indptr, indices) = crate::testing::random_dag(&mut rng, 60, 300);
+            let wide = Csr::new(&indptr, &indices).unwrap();
+            let narrow_ids: Vec<i32> = indices.iter().map(|&v| v as i32).collect();
+            let unsigned_ids: Vec<u32> = indices.iter().map(|&v| v as u32).collect();
+            let narrow_offsets: Vec<i32> = indptr.iter().map(|&v| v as i32).collect();
+            let mixed = Csr::from_arrays(&indptr, &narrow_ids).unwrap();
+            let unsigned = Csr::from_arrays(&indptr, &unsigned_ids).unwrap();
+            let flipped = Csr::from_arrays(&narrow_offsets, &indices).unwrap();
+            let expected = crate::kahn::kahn(&wide, &Tie::Queue).unwrap().order;
+            let as_i64 =
+                |order: Vec<_>| order.into_iter().map(|v: i32| v as i64).collect::<Vec<_>>();
+            assert_eq!(as_i64(crate::kahn::kahn(&mixed, &Tie::Queue).unwrap().order), expected);
+            let order = crate::kahn::kahn(&unsigned, &Tie::Queue).unwrap().order;
+            assert_eq!(order.into_iter().map(|v| v as i64).collect::<Vec<_>>(), expected);
+            assert_eq!(crate::kahn::kahn(&flipped, &Tie::Queue).unwrap().order, expected);
+            let components = crate::scc::strong_components(&mixed).unwrap();
+            let condensed = crate::scc::condensation(&mixed, &components).unwrap();
+            let reference = crate::scc::strong_components(&wide).unwrap();
+            let reference = crate::scc::condensation(&wide, &reference).unwrap();
+            assert_eq!(condensed.indptr, reference.indptr);
+            assert_eq!(condensed.weights, reference.weights);
+            assert_eq!(mixed.in_degrees().unwrap(), wide.in_degrees().unwrap());
+        }
     }
 }

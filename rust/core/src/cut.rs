@@ -97,7 +97,7 @@ impl Inner {
 ///
 /// Returns [`Error::Interrupted`] when the interrupt hook asks to stop
 /// (checked about every 0.1 s).
-pub fn cut_cycles<I: Idx>(csr: &Csr<'_, I>) -> Result<Cut<I>, Error> {
+pub fn cut_cycles<I: Idx, P: Idx>(csr: &Csr<'_, I, P>) -> Result<Cut<I>, Error> {
     let components = strong_components(csr)?;
     let labels = &components.labels;
     let sizes = components.try_sizes()?;
@@ -570,11 +570,11 @@ fn put_back(
 }
 
 /// A copy of `csr` without the edges at the given stored positions (ascending).
-pub fn without_edges<I: Idx>(csr: &Csr<'_, I>, removed: &[usize]) -> (Vec<I>, Vec<I>) {
+pub fn without_edges<I: Idx, P: Idx>(csr: &Csr<'_, I, P>, removed: &[usize]) -> (Vec<P>, Vec<I>) {
     let mut indptr = Vec::with_capacity(csr.n() + 1);
     let mut indices = Vec::with_capacity(csr.m() - removed.len().min(csr.m()));
     let mut skip = removed.iter().peekable();
-    indptr.push(I::default());
+    indptr.push(P::default());
     for u in 0..csr.n() {
         for k in csr.row_range(u) {
             if skip.peek() == Some(&&k) {
@@ -583,16 +583,16 @@ pub fn without_edges<I: Idx>(csr: &Csr<'_, I>, removed: &[usize]) -> (Vec<I>, Ve
                 indices.push(csr.indices()[k]);
             }
         }
-        indptr.push(I::from_usize(indices.len()));
+        indptr.push(P::from_usize(indices.len()));
     }
     (indptr, indices)
 }
 
 /// Kahn's order under `tie` of the graph left by [`cut_cycles`].
-pub fn cut_order<I: Idx>(csr: &Csr<'_, I>, tie: &Tie<'_>) -> Result<Vec<I>, Error> {
+pub fn cut_order<I: Idx, P: Idx>(csr: &Csr<'_, I, P>, tie: &Tie<'_>) -> Result<Vec<I>, Error> {
     let cut = cut_cycles(csr)?;
     let (indptr, indices) = without_edges(csr, &cut.removed);
-    let rest = Csr::new(&indptr, &indices)?;
+    let rest = Csr::from_arrays(&indptr, &indices)?;
     let outcome = kahn(&rest, tie)?;
     debug_assert!(outcome.is_complete(), "the cut leaves a DAG");
     Ok(outcome.order)

@@ -130,7 +130,9 @@ impl DynamicOrder {
 
     /// The graph `csr` in the order Kahn's algorithm (FIFO) gives it, or the
     /// cycle Kahn's algorithm reports when `csr` has one.
-    pub fn from_csr<I: Idx>(csr: &Csr<'_, I>) -> Result<Result<Self, Vec<usize>>, Error> {
+    pub fn from_csr<I: Idx, P: Idx>(
+        csr: &Csr<'_, I, P>,
+    ) -> Result<Result<Self, Vec<usize>>, Error> {
         let outcome = crate::kahn(csr, &Tie::Queue)?;
         if !outcome.is_complete() {
             return Ok(Err(outcome.cycle.iter().map(|c| c.to_usize()).collect()));

@@ -38,29 +38,29 @@ impl<I> Outcome<I> {
 }
 
 /// Run Kahn's algorithm on `csr` under `tie`.
-pub fn kahn<I: Idx>(csr: &Csr<'_, I>, tie: &Tie<'_>) -> Result<Outcome<I>, Error> {
+pub fn kahn<I: Idx, P: Idx>(csr: &Csr<'_, I, P>, tie: &Tie<'_>) -> Result<Outcome<I>, Error> {
     kahn_shared(csr, tie, 1)
 }
 
 /// [`kahn`] with the in-degree pass shared among `threads` workers (the
 /// loop itself is sequential by nature); the outcome is the same for every
 /// thread count.
-pub fn kahn_shared<I: Idx>(
-    csr: &Csr<'_, I>,
+pub fn kahn_shared<I: Idx, P: Idx>(
+    csr: &Csr<'_, I, P>,
     tie: &Tie<'_>,
     threads: usize,
 ) -> Result<Outcome<I>, Error> {
     if csr.m() <= u32::MAX as usize {
-        run_policy::<I, u32>(csr, tie, threads)
+        run_policy::<I, P, u32>(csr, tie, threads)
     } else {
-        run_policy::<I, u64>(csr, tie, threads)
+        run_policy::<I, P, u64>(csr, tie, threads)
     }
 }
 
 /// Kahn's loop with remaining in-degrees kept in `C` (u32 whenever the edge
 /// count allows: half the memory traffic of 64-bit counts on the hot path).
-fn run_policy<I: Idx, C: Count>(
-    csr: &Csr<'_, I>,
+fn run_policy<I: Idx, P: Idx, C: Count>(
+    csr: &Csr<'_, I, P>,
     tie: &Tie<'_>,
     threads: usize,
 ) -> Result<Outcome<I>, Error> {
@@ -82,8 +82,8 @@ fn run_policy<I: Idx, C: Count>(
 
 /// The outcome once the loop stopped: complete, or the blocked nodes and a
 /// cycle among them.
-pub(crate) fn finish<I: Idx, C: Count>(
-    csr: &Csr<'_, I>,
+pub(crate) fn finish<I: Idx, P: Idx, C: Count>(
+    csr: &Csr<'_, I, P>,
     order: Vec<I>,
     indegree: &[C],
 ) -> Result<Outcome<I>, Error> {
@@ -100,13 +100,13 @@ pub(crate) fn finish<I: Idx, C: Count>(
 }
 
 /// Kahn's loop for any ready-set policy.
-struct Loop<'a, 'g, I: Idx, C> {
-    csr: &'a Csr<'g, I>,
+struct Loop<'a, 'g, I: Idx, P: Idx, C> {
+    csr: &'a Csr<'g, I, P>,
     indegree: &'a mut [C],
     order: &'a mut Vec<I>,
 }
 
-impl<I: Idx, C: Count> WithReady for Loop<'_, '_, I, C> {
+impl<I: Idx, P: Idx, C: Count> WithReady for Loop<'_, '_, I, P, C> {
     type Output = Result<(), Error>;
 
     fn run<R: ReadySet>(self, mut ready: R) -> Result<(), Error> {
@@ -154,8 +154,8 @@ impl<I: Idx, C: Count> WithReady for Loop<'_, '_, I, C> {
 /// Each such node still has an un-emitted (hence blocked) predecessor, so
 /// following one recorded predecessor per node must revisit a node; the
 /// revisited stretch, reversed, is a cycle.
-fn cycle_among_blocked<I: Idx, C: Count>(
-    csr: &Csr<'_, I>,
+fn cycle_among_blocked<I: Idx, P: Idx, C: Count>(
+    csr: &Csr<'_, I, P>,
     remaining: &[C],
     start: usize,
 ) -> Result<Vec<I>, Error> {
@@ -294,8 +294,8 @@ mod tests {
             assert_eq!(run(Tie::Queue), queue);
             assert_eq!(run(Tie::Stack), stack);
             // The 64-bit count path (used past 2^32 edges) behaves the same.
-            assert_eq!(run_policy::<i64, u64>(&g, &Tie::Queue, 1).unwrap().order, queue);
-            assert_eq!(run_policy::<i64, u64>(&g, &Tie::Stack, 1).unwrap().order, stack);
+            assert_eq!(run_policy::<i64, i64, u64>(&g, &Tie::Queue, 1).unwrap().order, queue);
+            assert_eq!(run_policy::<i64, i64, u64>(&g, &Tie::Stack, 1).unwrap().order, stack);
             assert_eq!(run(Tie::Priority(Key::default())), by_id);
             assert_eq!(run(Tie::Priority(Key { values: None, descending: true })), by_id_desc);
             let f = Key { values: Some(KeyValues::F64(&key)), descending: false };

@@ -18,8 +18,8 @@ use crate::{alloc, Csr, Error, Idx};
 ///
 /// `threads` is accepted for every sweep's sake but not used: the serial
 /// loop is the fastest measured choice (see the module documentation).
-pub fn level_order<I: Idx>(
-    csr: &Csr<'_, I>,
+pub fn level_order<I: Idx, P: Idx>(
+    csr: &Csr<'_, I, P>,
     threads: usize,
 ) -> Result<Acyclic<LevelOrder<I>, I>, Error> {
     let _ = threads;
@@ -59,8 +59,8 @@ pub fn grouped<I: Idx>(level: &[I], offsets: &[usize]) -> Result<Vec<I>, Error> 
 /// graph's level order, on `threads` workers when the levels are wide
 /// enough to pay ([`crate::sweep::worth_sharing`]); the same result for
 /// every thread count.
-pub fn heights<I: Idx>(
-    csr: &Csr<'_, I>,
+pub fn heights<I: Idx, P: Idx>(
+    csr: &Csr<'_, I, P>,
     levels: &LevelOrder<I>,
     threads: usize,
 ) -> Result<Vec<I>, Error> {

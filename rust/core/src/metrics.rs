@@ -45,8 +45,8 @@ pub struct OrderMetrics<I> {
 /// `Ok(Err(violation))` when `order` is not a topological order (a bad
 /// entry, or the first backward edge in stored order, as
 /// [`crate::verify::verify`] reports it); `Err` when the graph is malformed.
-pub fn order_metrics<I: Idx, J: Idx>(
-    csr: &Csr<'_, I>,
+pub fn order_metrics<I: Idx, W: Idx, J: Idx>(
+    csr: &Csr<'_, I, W>,
     order: &[J],
 ) -> Result<Result<OrderMetrics<I>, Violation>, Error> {
     let n = csr.n();
@@ -60,17 +60,17 @@ pub fn order_metrics<I: Idx, J: Idx>(
     // A malformed graph outranks a bad order, so check it before measuring.
     csr.check_indices()?;
     if n <= u32::MAX as usize {
-        measure::<I, J, u32>(csr, &position)
+        measure::<I, W, J, u32>(csr, &position)
     } else {
-        measure::<I, J, u64>(csr, &position)
+        measure::<I, W, J, u64>(csr, &position)
     }
 }
 
 /// The measures of a valid permutation `position`, with per-node slots in
 /// width `P`: each node's position and ready step sit side by side, so the
 /// per-edge work costs one random memory access instead of two.
-fn measure<I: Idx, J: Idx, P: Idx>(
-    csr: &Csr<'_, I>,
+fn measure<I: Idx, W: Idx, J: Idx, P: Idx>(
+    csr: &Csr<'_, I, W>,
     position: &[J],
 ) -> Result<Result<OrderMetrics<I>, Violation>, Error> {
     let n = csr.n();
@@ -174,8 +174,8 @@ pub struct KeyAgreement {
 
 /// Compare `order` (a permutation of `0..n`, already checked by the caller
 /// with [`order_metrics`]) with `rank`, one value in `0..n` per node.
-pub fn key_agreement<I: Idx, J: Idx>(
-    csr: &Csr<'_, I>,
+pub fn key_agreement<I: Idx, W: Idx, J: Idx>(
+    csr: &Csr<'_, I, W>,
     order: &[J],
     rank: &[i64],
 ) -> Result<KeyAgreement, Error> {

@@ -165,8 +165,8 @@ pub(crate) struct Table<A> {
 /// (one read of each row for both) and returns it; otherwise it runs along
 /// `known`. `Ok(Ok((_, None)))` when a value left `A`'s range.
 #[allow(clippy::type_complexity)]
-pub(crate) fn count_paths<I: Idx, A: Arithmetic, T: Terms<A>>(
-    csr: &Csr<'_, I>,
+pub(crate) fn count_paths<I: Idx, P: Idx, A: Arithmetic, T: Terms<A>>(
+    csr: &Csr<'_, I, P>,
     known: Option<&LevelOrder<I>>,
     threads: usize,
     terms: &T,
@@ -247,8 +247,11 @@ pub(crate) fn count_paths<I: Idx, A: Arithmetic, T: Terms<A>>(
 
 /// Count the paths of `csr`; the backward pass runs on `threads` workers
 /// when it pays (same result for any count).
-pub fn path_counts<I: Idx>(csr: &Csr<'_, I>, threads: usize) -> Result<Acyclic<Counts, I>, Error> {
-    let (levels, floats) = match count_paths::<I, f64, _>(csr, None, threads, &SourcesToSinks)? {
+pub fn path_counts<I: Idx, P: Idx>(
+    csr: &Csr<'_, I, P>,
+    threads: usize,
+) -> Result<Acyclic<Counts, I>, Error> {
+    let (levels, floats) = match count_paths::<I, P, f64, _>(csr, None, threads, &SourcesToSinks)? {
         Ok((Some(levels), Some(floats))) => (levels, floats),
         Ok(_) => return Err(Error::Internal { reason: "float path counts went missing".into() }),
         Err(cyclic) => return Ok(Err(cyclic)),
@@ -263,7 +266,7 @@ pub fn path_counts<I: Idx>(csr: &Csr<'_, I>, threads: usize) -> Result<Acyclic<C
             total: total as u64,
         })
     } else if total < SURELY_TOO_BIG {
-        match count_paths::<I, u64, _>(csr, Some(&levels), threads, &SourcesToSinks)? {
+        match count_paths::<I, P, u64, _>(csr, Some(&levels), threads, &SourcesToSinks)? {
             Ok((_, table)) => table.map(|t| ExactCounts {
                 from_sources: t.from,
                 to_sinks: t.to,
@@ -276,7 +279,7 @@ pub fn path_counts<I: Idx>(csr: &Csr<'_, I>, threads: usize) -> Result<Acyclic<C
         None
     };
     let log = if total.is_infinite() {
-        match count_paths::<I, Log, _>(csr, Some(&levels), threads, &SourcesToSinks)? {
+        match count_paths::<I, P, Log, _>(csr, Some(&levels), threads, &SourcesToSinks)? {
             Ok((_, table)) => table.map(|t| {
                 let logs = |values: Vec<Log>| values.into_iter().map(|x| x.0).collect();
                 LogCounts {

@@ -95,10 +95,10 @@ impl<I: Idx> Components<I> {
 /// of its component (nothing it reaches has a smaller index). The flag lives
 /// here because it is only needed while the node is on the path.
 #[derive(Clone, Copy)]
-struct Frame<I> {
+struct Frame<I, P> {
     node: I,
-    next: I,
-    end: I,
+    next: P,
+    end: P,
     root: bool,
 }
 
@@ -109,8 +109,8 @@ struct Frame<I> {
 /// follows edges in stored order, so the numbering is deterministic. O(V + E) time; besides
 /// the result, memory is the depth-first path and the component stack (each
 /// at most `n` entries).
-pub fn strong_components<I: Idx>(csr: &Csr<'_, I>) -> Result<Components<I>, Error> {
-    let (mut rindex, shift, count) = search::<I, I>(csr)?;
+pub fn strong_components<I: Idx, P: Idx>(csr: &Csr<'_, I, P>) -> Result<Components<I>, Error> {
+    let (mut rindex, shift, count) = search::<I, P, I>(csr)?;
     for label in rindex.iter_mut() {
         *label = I::from_usize(label.to_usize() - shift);
     }
@@ -120,10 +120,10 @@ pub fn strong_components<I: Idx>(csr: &Csr<'_, I>) -> Result<Components<I>, Erro
 /// [`strong_components`], plus for each node the number of edges that enter
 /// it from other components (parallel edges counted), found during the same
 /// search.
-pub fn strong_components_with_entries<I: Idx>(
-    csr: &Csr<'_, I>,
+pub fn strong_components_with_entries<I: Idx, P: Idx>(
+    csr: &Csr<'_, I, P>,
 ) -> Result<(Components<I>, Vec<I>), Error> {
-    let (slots, shift, count) = search::<I, Counted<I>>(csr)?;
+    let (slots, shift, count) = search::<I, P, Counted<I>>(csr)?;
     let mut labels = alloc::with_capacity("component labels", slots.len())?;
     labels.extend(slots.iter().map(|s| I::from_usize(s.rindex.to_usize() - shift)));
     let mut entered = alloc::with_capacity("edges entering each node", slots.len())?;
@@ -177,7 +177,9 @@ impl<I: Idx> Slot<I> for Counted<I> {
 
 /// Pearce's search. Returns the per-node slots, where a finished node's
 /// `rindex` is its component number plus `shift`, and the component count.
-fn search<I: Idx, S: Slot<I>>(csr: &Csr<'_, I>) -> Result<(Vec<S>, usize, usize), Error> {
+fn search<I: Idx, P: Idx, S: Slot<I>>(
+    csr: &Csr<'_, I, P>,
+) -> Result<(Vec<S>, usize, usize), Error> {
     csr.check_indices()?;
     let n = csr.n();
     if n > I::MAX_USIZE {
@@ -193,7 +195,7 @@ fn search<I: Idx, S: Slot<I>>(csr: &Csr<'_, I>) -> Result<(Vec<S>, usize, usize)
     // paper so the two ranges never touch), so comparisons tell them apart.
     let mut slots: Vec<S> = alloc::filled("component search slots", n, S::default())?;
     let mut ticker = Ticker::new();
-    let mut path: Vec<Frame<I>> = Vec::new();
+    let mut path: Vec<Frame<I, P>> = Vec::new();
     let mut open: Vec<I> = Vec::new();
     let mut index: usize = 1;
     let mut component = n;
@@ -222,7 +224,7 @@ fn search<I: Idx, S: Slot<I>>(csr: &Csr<'_, I>) -> Result<(Vec<S>, usize, usize)
                 let rw = slot.rindex();
                 if rw.to_usize() == 0 {
                     ticker.tick_by(indptr[w + 1].to_usize() - indptr[w].to_usize() + 1)?;
-                    frame.next = I::from_usize(next);
+                    frame.next = P::from_usize(next);
                     slot.set_rindex(I::from_usize(index));
                     slots[v].set_rindex(low);
                     index += 1;
@@ -279,21 +281,22 @@ fn search<I: Idx, S: Slot<I>>(csr: &Csr<'_, I>) -> Result<(Vec<S>, usize, usize)
 }
 
 /// The condensation of a graph: one node per component, one edge per
-/// ordered pair of distinct components joined by at least one edge.
+/// ordered pair of distinct components joined by at least one edge. Edge
+/// positions and edge counts have the width of the graph's `indptr`.
 #[derive(Debug, Clone, PartialEq, Eq)]
-pub struct Condensation<I> {
-    pub indptr: Vec<I>,
+pub struct Condensation<I, P = I> {
+    pub indptr: Vec<P>,
     /// Targets of each row, ascending.
     pub indices: Vec<I>,
     /// `weights[k]`: how many edges of the graph the k-th condensation edge stands for.
-    pub weights: Vec<I>,
+    pub weights: Vec<P>,
 }
 
 /// Build the condensation of `csr` for its `components`, in O(V + E).
-pub fn condensation<I: Idx>(
-    csr: &Csr<'_, I>,
+pub fn condensation<I: Idx, P: Idx>(
+    csr: &Csr<'_, I, P>,
     components: &Components<I>,
-) -> Result<Condensation<I>, Error> {
+) -> Result<Condensation<I, P>, Error> {
     csr.check_indices()?;
     let labels = &components.labels;
     if labels.len() != csr.n() {
@@ -356,18 +359,18 @@ pub fn condensation<I: Idx>(
     let mut cursor = alloc::with_capacity("condensation cursors", count + 1)?;
     cursor.extend_from_slice(&row_start);
     let mut indices = alloc::filled("condensation targets", e, I::default())?;
-    let mut sorted_weights = alloc::filled("condensation weights", e, I::default())?;
+    let mut sorted_weights = alloc::filled("condensation weights", e, P::default())?;
     for d in 0..count {
         ticker.tick_by(by_target_start[d + 1] - by_target_start[d] + 1)?;
         for &(c, weight) in &by_target[by_target_start[d]..by_target_start[d + 1]] {
             let s = &mut cursor[c];
             indices[*s] = I::from_usize(d);
-            sorted_weights[*s] = I::from_usize(weight);
+            sorted_weights[*s] = P::from_usize(weight);
             *s += 1;
         }
     }
     Ok(Condensation {
-        indptr: row_start.into_iter().map(I::from_usize).collect(),
+        indptr: row_start.into_iter().map(P::from_usize).collect(),
         indices,
         weights: sorted_weights,
     })

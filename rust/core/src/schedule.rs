@@ -151,8 +151,8 @@ fn total_work<T: Duration>(durations: &[T], n: usize) -> Result<T, Error> {
 ///
 /// The sweep engine's order and backward pass; exposed for the
 /// critical-path order of policy comparisons; O(V + E).
-pub fn bottom_levels<I: Idx, T: Duration>(
-    csr: &Csr<'_, I>,
+pub fn bottom_levels<I: Idx, P: Idx, T: Duration>(
+    csr: &Csr<'_, I, P>,
     durations: &[T],
 ) -> Result<Result<Vec<T>, Outcome<I>>, Error> {
     total_work(durations, csr.n())?;
@@ -180,8 +180,8 @@ pub fn bottom_levels<I: Idx, T: Duration>(
 }
 
 /// List-schedule the tasks of `csr` with `durations` on `workers` workers.
-pub fn list_schedule<I: Idx, T: Duration>(
-    csr: &Csr<'_, I>,
+pub fn list_schedule<I: Idx, P: Idx, T: Duration>(
+    csr: &Csr<'_, I, P>,
     durations: &[T],
     workers: usize,
     policy: &Policy<'_>,
@@ -208,14 +208,14 @@ pub fn list_schedule<I: Idx, T: Duration>(
 }
 
 /// The event-driven simulation, for any ready set.
-struct Simulate<'a, 'g, I: Idx, T> {
-    csr: &'a Csr<'g, I>,
+struct Simulate<'a, 'g, I: Idx, P: Idx, T> {
+    csr: &'a Csr<'g, I, P>,
     durations: &'a [T],
     workers: usize,
     total: T,
 }
 
-impl<I: Idx, T: Duration> WithReady for Simulate<'_, '_, I, T> {
+impl<I: Idx, P: Idx, T: Duration> WithReady for Simulate<'_, '_, I, P, T> {
     type Output = Result<Scheduled<I, T>, Error>;
 
     fn run<R: ReadySet>(self, mut ready: R) -> Result<Scheduled<I, T>, Error> {

@@ -68,8 +68,8 @@ impl FifoHooks for () {}
 /// [`Csr::in_degree_counts`]); `order` is replaced. Stops early, with
 /// [`Error::InputChanged`], if the arrays change under it, and with
 /// [`Error::Interrupted`] on a stop request.
-pub(crate) fn run_queue<I: Idx, C: Count, H: FifoHooks>(
-    csr: &Csr<'_, I>,
+pub(crate) fn run_queue<I: Idx, P: Idx, C: Count, H: FifoHooks>(
+    csr: &Csr<'_, I, P>,
     indegree: &mut [C],
     order: &mut Vec<I>,
     hooks: &mut H,
@@ -166,8 +166,8 @@ pub struct LevelOrder<I> {
 /// ones made ready while level `k` is emitted, so the FIFO order is sorted by
 /// level and the boundaries come for free.
 #[allow(clippy::type_complexity)]
-pub fn fifo_sweep<I, T, C, E, V>(
-    csr: &Csr<'_, I>,
+pub fn fifo_sweep<I, P: Idx, T, C, E, V>(
+    csr: &Csr<'_, I, P>,
     init: T,
     emit: E,
     visit: V,
@@ -179,9 +179,9 @@ where
     V: FnMut(&C, usize, usize, &mut T),
 {
     if csr.m() <= u32::MAX as usize {
-        sweep_with::<I, u32, T, C, E, V>(csr, init, emit, visit)
+        sweep_with::<I, P, u32, T, C, E, V>(csr, init, emit, visit)
     } else {
-        sweep_with::<I, u64, T, C, E, V>(csr, init, emit, visit)
+        sweep_with::<I, P, u64, T, C, E, V>(csr, init, emit, visit)
     }
 }
 
@@ -222,8 +222,8 @@ where
 }
 
 #[allow(clippy::type_complexity)]
-fn sweep_with<I, K, T, C, E, V>(
-    csr: &Csr<'_, I>,
+fn sweep_with<I, P: Idx, K, T, C, E, V>(
+    csr: &Csr<'_, I, P>,
     init: T,
     emit: E,
     visit: V,
@@ -259,7 +259,7 @@ pub const SERIAL_FRONTIER: usize = 1024;
 /// Call `step(u)` for every node of `order` (a topological order), first to
 /// last, fetching the rows `step` will read a few nodes ahead: a forward
 /// pass when the order is already known.
-pub fn forward<I, F>(csr: &Csr<'_, I>, order: &[I], mut step: F) -> Result<(), Error>
+pub fn forward<I, P: Idx, F>(csr: &Csr<'_, I, P>, order: &[I], mut step: F) -> Result<(), Error>
 where
     I: Idx,
     F: FnMut(usize) -> Result<(), Error>,
@@ -274,8 +274,8 @@ where
 /// `step` each node `nodes` yields, fetching the rows a
 /// few nodes ahead (the order is known in advance, as in the FIFO loop).
 #[inline(always)]
-fn walk<'o, I, F>(
-    csr: &Csr<'_, I>,
+fn walk<'o, I, P: Idx, F>(
+    csr: &Csr<'_, I, P>,
     nodes: impl Iterator<Item = &'o I> + Clone,
     mut step: F,
 ) -> Result<(), Error>
@@ -324,8 +324,8 @@ const SHARE_MIN_WIDTH: usize = 4 * SERIAL_FRONTIER;
 /// node and the edges of its row) therefore never races, and gives the same
 /// result as one thread, bit for bit; that is the contract under which it
 /// may use [`Disjoint`]. The first error any `settle` returns ends the pass.
-pub fn settle_backward<I, F>(
-    csr: &Csr<'_, I>,
+pub fn settle_backward<I, P: Idx, F>(
+    csr: &Csr<'_, I, P>,
     levels: &LevelOrder<I>,
     threads: usize,
     settle: F,

@@ -38,7 +38,10 @@ pub fn positions<J: Idx>(order: &[J], n: usize) -> Result<Vec<J>, Violation> {
 /// `Ok(None)` when `order` is a topological order of `csr`; otherwise the
 /// first problem: a bad entry of `order`, or the first backward edge in
 /// stored (CSR) edge order. `Err` only when the graph itself is malformed.
-pub fn verify<I: Idx, J: Idx>(csr: &Csr<'_, I>, order: &[J]) -> Result<Option<Violation>, Error> {
+pub fn verify<I: Idx, P: Idx, J: Idx>(
+    csr: &Csr<'_, I, P>,
+    order: &[J],
+) -> Result<Option<Violation>, Error> {
     csr.check_indices()?;
     let position = match positions(order, csr.n()) {
         Ok(position) => position,

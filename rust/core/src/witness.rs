@@ -12,8 +12,8 @@ use crate::{Csr, Error, Idx};
 /// Breadth-first search from `through` in stored edge order; among cycles
 /// of the shortest length, the one found first in that order is returned.
 /// O(V + E), stopping as soon as the cycle closes.
-pub fn shortest_cycle_through<I: Idx>(
-    csr: &Csr<'_, I>,
+pub fn shortest_cycle_through<I: Idx, P: Idx>(
+    csr: &Csr<'_, I, P>,
     through: i128,
 ) -> Result<Option<Vec<I>>, Error> {
     csr.check_indices()?;
@@ -59,7 +59,7 @@ pub fn shortest_cycle_through<I: Idx>(
 
 /// One directed cycle of `csr`, or `None` for a DAG: a shortest cycle
 /// through the smallest node id that lies on any cycle. O(V + E).
-pub fn find_cycle<I: Idx>(csr: &Csr<'_, I>) -> Result<Option<Vec<I>>, Error> {
+pub fn find_cycle<I: Idx, P: Idx>(csr: &Csr<'_, I, P>) -> Result<Option<Vec<I>>, Error> {
     let components = strong_components(csr)?;
     let sizes = components.try_sizes()?;
     let mut ticker = Ticker::new();

@@ -88,16 +88,27 @@ pub(crate) fn read_optional<'py, T: Element>(
     object.map(|o| read(o, name, expected)).transpose()
 }
 
-/// The work of one entry point at one index width: the one generic function
-/// of that entry point. [`on_graph`] picks the width.
+/// The work of one entry point at one pair of index widths: the one generic
+/// function of that entry point. [`on_graph`] picks the widths.
 pub(crate) trait OnGraph<'py> {
     type Output;
-    fn run<I: Index>(self, py: Python<'py>, indptr: &[I], indices: &[I]) -> PyResult<Self::Output>;
+    /// `indptr` holds edge positions of width `P`, `indices` node ids of width `I`.
+    fn run<I: Index, P: Index>(
+        self,
+        py: Python<'py>,
+        indptr: &[P],
+        indices: &[I],
+    ) -> PyResult<Self::Output>;
 }
 
-/// The index widths of a pair of graph arrays, decided once here. A mixed
-/// pair (say int64 `indptr` with int32 `indices`, or uint32 ids) becomes one
-/// more arm once the core's `Csr` takes two widths.
+/// The dtypes `indptr` may have.
+const OFFSET_WIDTHS: &str = "int32 or int64";
+/// The dtypes `indices` (and edge endpoints) may have.
+const ID_WIDTHS: &str = "int32, int64 or uint32";
+
+/// The index widths of a graph's arrays, decided once here, each array read
+/// as it is (no copy): `indptr` int32 or int64, `indices` int32, int64 or
+/// uint32, in any combination.
 pub(crate) fn on_graph<'py, K: OnGraph<'py>>(
     py: Python<'py>,
     indptr: &Bound<'py, PyAny>,
@@ -107,8 +118,54 @@ pub(crate) fn on_graph<'py, K: OnGraph<'py>>(
     on_pair(py, ("indptr", indptr), ("indices", indices), kernel)
 }
 
-/// [`on_graph`] for any pair of same-width id arrays (`src`/`dst` too).
+/// [`on_graph`] for any pair of offsets and ids: every supported width pair
+/// is one arm.
 pub(crate) fn on_pair<'py, K: OnGraph<'py>>(
+    py: Python<'py>,
+    (offsets_name, offsets): (&'static str, &Bound<'py, PyAny>),
+    ids: (&'static str, &Bound<'py, PyAny>),
+    kernel: K,
+) -> PyResult<K::Output> {
+    if has_dtype::<i64>(offsets) {
+        with_ids(py, read::<i64>(offsets, offsets_name, OFFSET_WIDTHS)?.values()?, ids, kernel)
+    } else if has_dtype::<i32>(offsets) {
+        with_ids(py, read::<i32>(offsets, offsets_name, OFFSET_WIDTHS)?.values()?, ids, kernel)
+    } else {
+        Err(read::<i64>(offsets, offsets_name, OFFSET_WIDTHS).err().unwrap_or_else(|| {
+            input_error(format!("{offsets_name} must be a 1-D numpy array of {OFFSET_WIDTHS}"))
+        }))
+    }
+}
+
+/// The second half of [`on_pair`]: the width of the ids.
+fn with_ids<'py, P: Index, K: OnGraph<'py>>(
+    py: Python<'py>,
+    offsets: &[P],
+    (name, ids): (&'static str, &Bound<'py, PyAny>),
+    kernel: K,
+) -> PyResult<K::Output> {
+    if has_dtype::<i64>(ids) {
+        kernel.run(py, offsets, read::<i64>(ids, name, ID_WIDTHS)?.values()?)
+    } else if has_dtype::<i32>(ids) {
+        kernel.run(py, offsets, read::<i32>(ids, name, ID_WIDTHS)?.values()?)
+    } else if has_dtype::<u32>(ids) {
+        kernel.run(py, offsets, read::<u32>(ids, name, ID_WIDTHS)?.values()?)
+    } else {
+        Err(read::<i64>(ids, name, ID_WIDTHS).err().unwrap_or_else(|| {
+            input_error(format!("{name} must be a 1-D numpy array of {ID_WIDTHS}"))
+        }))
+    }
+}
+
+/// The work of one entry point on two id arrays of one width (edge sources
+/// and targets): [`on_ids`] picks the width.
+pub(crate) trait OnIds<'py> {
+    type Output;
+    fn run<I: Index>(self, py: Python<'py>, first: &[I], second: &[I]) -> PyResult<Self::Output>;
+}
+
+/// The width of a pair of same-width id arrays (`src`/`dst`).
+pub(crate) fn on_ids<'py, K: OnIds<'py>>(
     py: Python<'py>,
     (first_name, first): (&'static str, &Bound<'py, PyAny>),
     (second_name, second): (&'static str, &Bound<'py, PyAny>),

@@ -19,8 +19,13 @@ struct ComponentsOf;
 
 impl<'py> OnGraph<'py> for ComponentsOf {
     type Output = Components;
-    fn run<I: Index>(self, py: Python<'py>, indptr: &[I], indices: &[I]) -> PyResult<Components> {
-        let found = compute(py, || scc::strong_components(&Csr::new(indptr, indices)?))?;
+    fn run<I: Index, P: Index>(
+        self,
+        py: Python<'py>,
+        indptr: &[P],
+        indices: &[I],
+    ) -> PyResult<Components> {
+        let found = compute(py, || scc::strong_components(&Csr::from_arrays(indptr, indices)?))?;
         Ok(Components { count: found.count, labels: array(py, found.labels) })
     }
 }
@@ -50,9 +55,14 @@ struct CondensationOf;
 
 impl<'py> OnGraph<'py> for CondensationOf {
     type Output = Condensation;
-    fn run<I: Index>(self, py: Python<'py>, indptr: &[I], indices: &[I]) -> PyResult<Condensation> {
+    fn run<I: Index, P: Index>(
+        self,
+        py: Python<'py>,
+        indptr: &[P],
+        indices: &[I],
+    ) -> PyResult<Condensation> {
         let (components, condensed) = compute(py, || {
-            let g = Csr::new(indptr, indices)?;
+            let g = Csr::from_arrays(indptr, indices)?;
             let components = scc::strong_components(&g)?;
             let condensed = scc::condensation(&g, &components)?;
             Ok((components, condensed))
@@ -84,9 +94,14 @@ struct OrderDespiteCycles<'a> {
 
 impl<'py> OnGraph<'py> for OrderDespiteCycles<'_> {
     type Output = Bound<'py, PyAny>;
-    fn run<I: Index>(self, py: Python<'py>, indptr: &[I], indices: &[I]) -> PyResult<Self::Output> {
+    fn run<I: Index, P: Index>(
+        self,
+        py: Python<'py>,
+        indptr: &[P],
+        indices: &[I],
+    ) -> PyResult<Self::Output> {
         let order = compute(py, || {
-            let g = Csr::new(indptr, indices)?;
+            let g = Csr::from_arrays(indptr, indices)?;
             if self.condensed {
                 condense::condensed_order(&g, &self.tie)
             } else {
@@ -132,9 +147,14 @@ struct CycleWitness {
 
 impl<'py> OnGraph<'py> for CycleWitness {
     type Output = Option<Py<PyAny>>;
-    fn run<I: Index>(self, py: Python<'py>, indptr: &[I], indices: &[I]) -> PyResult<Self::Output> {
+    fn run<I: Index, P: Index>(
+        self,
+        py: Python<'py>,
+        indptr: &[P],
+        indices: &[I],
+    ) -> PyResult<Self::Output> {
         let found = compute(py, || {
-            let g = Csr::new(indptr, indices)?;
+            let g = Csr::from_arrays(indptr, indices)?;
             match self.through {
                 Some(v) => witness::shortest_cycle_through(&g, v as i128),
                 None => witness::find_cycle(&g),
@@ -170,8 +190,13 @@ struct CutOf;
 
 impl<'py> OnGraph<'py> for CutOf {
     type Output = Cut;
-    fn run<I: Index>(self, py: Python<'py>, indptr: &[I], indices: &[I]) -> PyResult<Cut> {
-        let found = compute(py, || cut::cut_cycles(&Csr::new(indptr, indices)?))?;
+    fn run<I: Index, P: Index>(
+        self,
+        py: Python<'py>,
+        indptr: &[P],
+        indices: &[I],
+    ) -> PyResult<Cut> {
+        let found = compute(py, || cut::cut_cycles(&Csr::from_arrays(indptr, indices)?))?;
         let removed: Vec<i64> = found.removed.into_iter().map(|k| k as i64).collect();
         Ok(Cut { removed: array(py, removed), order: array(py, found.order) })
     }

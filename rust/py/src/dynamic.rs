@@ -151,8 +151,13 @@ struct FromCsr;
 impl<'py> OnGraph<'py> for FromCsr {
     type Output = Bound<'py, PyAny>;
 
-    fn run<I: Index>(self, py: Python<'py>, indptr: &[I], indices: &[I]) -> PyResult<Self::Output> {
-        let built = compute(py, || DynamicOrder::from_csr(&Csr::<I>::new(indptr, indices)?))?;
+    fn run<I: Index, P: Index>(
+        self,
+        py: Python<'py>,
+        indptr: &[P],
+        indices: &[I],
+    ) -> PyResult<Self::Output> {
+        let built = compute(py, || DynamicOrder::from_csr(&Csr::from_arrays(indptr, indices)?))?;
         match built {
             Ok(inner) => Ok(Bound::new(py, DynamicCore { inner })?.into_any()),
             Err(cycle) => Ok(ids(py, &cycle).into_bound(py).into_any()),

@@ -44,10 +44,15 @@ struct MetricsOf<'a> {
 
 impl<'py> OnGraph<'py> for MetricsOf<'_> {
     type Output = Option<OrderMetrics>;
-    fn run<I: Index>(self, py: Python<'py>, indptr: &[I], indices: &[I]) -> PyResult<Self::Output> {
+    fn run<I: Index, P: Index>(
+        self,
+        py: Python<'py>,
+        indptr: &[P],
+        indices: &[I],
+    ) -> PyResult<Self::Output> {
         let (order, rank) = (self.order, self.rank);
         let found = compute(py, || {
-            let g = Csr::new(indptr, indices)?;
+            let g = Csr::from_arrays(indptr, indices)?;
             let measured = match metrics::order_metrics(&g, order)? {
                 Ok(measured) => measured,
                 Err(_) => return Ok(None),

@@ -5,8 +5,8 @@ use toporank_core::verify::{self, Violation as CoreViolation};
 use toporank_core::{edges, kahn_shared, Csr, Key, KeyValues, Tie};
 
 use crate::common::{
-    array, compute, cyclic, has_dtype, on_graph, on_pair, optional_array, read, Array, Index,
-    OnGraph,
+    array, compute, cyclic, has_dtype, on_graph, on_ids, optional_array, read, Array, Index,
+    OnGraph, OnIds,
 };
 use crate::errors::input_error;
 
@@ -62,9 +62,15 @@ struct KahnOrder<'a> {
 
 impl<'py> OnGraph<'py> for KahnOrder<'_> {
     type Output = Bound<'py, PyAny>;
-    fn run<I: Index>(self, py: Python<'py>, indptr: &[I], indices: &[I]) -> PyResult<Self::Output> {
-        let outcome =
-            compute(py, || kahn_shared(&Csr::new(indptr, indices)?, &self.tie, self.threads))?;
+    fn run<I: Index, P: Index>(
+        self,
+        py: Python<'py>,
+        indptr: &[P],
+        indices: &[I],
+    ) -> PyResult<Self::Output> {
+        let outcome = compute(py, || {
+            kahn_shared(&Csr::from_arrays(indptr, indices)?, &self.tie, self.threads)
+        })?;
         if outcome.is_complete() {
             Ok(array(py, outcome.order).into_bound(py))
         } else {
@@ -109,7 +115,7 @@ struct EdgesToCsr {
     with_edge_ids: bool,
 }
 
-impl<'py> OnGraph<'py> for EdgesToCsr {
+impl<'py> OnIds<'py> for EdgesToCsr {
     type Output = CsrArrays;
     fn run<I: Index>(self, py: Python<'py>, src: &[I], dst: &[I]) -> PyResult<CsrArrays> {
         let built = compute(py, || edges::edges_to_csr(src, dst, self.n, self.with_edge_ids))?;
@@ -131,7 +137,7 @@ fn edges_to_csr<'py>(
     n: usize,
     with_edge_ids: bool,
 ) -> PyResult<CsrArrays> {
-    on_pair(py, ("src", src), ("dst", dst), EdgesToCsr { n, with_edge_ids })
+    on_ids(py, ("src", src), ("dst", dst), EdgesToCsr { n, with_edge_ids })
 }
 
 /// Why a sequence is not a topological order; the Python layer words it.
@@ -203,8 +209,14 @@ struct VerifyOrder<'a> {
 
 impl<'py> OnGraph<'py> for VerifyOrder<'_> {
     type Output = Option<Violation>;
-    fn run<I: Index>(self, py: Python<'py>, indptr: &[I], indices: &[I]) -> PyResult<Self::Output> {
-        let found = compute(py, || verify::verify(&Csr::new(indptr, indices)?, self.order))?;
+    fn run<I: Index, P: Index>(
+        self,
+        py: Python<'py>,
+        indptr: &[P],
+        indices: &[I],
+    ) -> PyResult<Self::Output> {
+        let found =
+            compute(py, || verify::verify(&Csr::from_arrays(indptr, indices)?, self.order))?;
         Ok(found.map(Violation::from))
     }
 }

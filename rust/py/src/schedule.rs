@@ -50,18 +50,19 @@ struct ListSchedule<'a> {
 }
 
 impl ListSchedule<'_> {
-    fn with<'py, I: Index, T>(
+    fn with<'py, I: Index, P: Index, T>(
         &self,
         py: Python<'py>,
-        g: (&[I], &[I]),
+        g: (&[P], &[I]),
         d: &[T],
     ) -> PyResult<Bound<'py, PyAny>>
     where
         T: Duration + Element + IntoPyObject<'py>,
     {
         let (workers, policy) = (self.workers, &self.policy);
-        let found =
-            compute(py, || schedule::list_schedule(&Csr::new(g.0, g.1)?, d, workers, policy))?;
+        let found = compute(py, || {
+            schedule::list_schedule(&Csr::from_arrays(g.0, g.1)?, d, workers, policy)
+        })?;
         match found {
             Scheduled::Cyclic(outcome) => cyclic(py, outcome),
             Scheduled::Done(s) => {
@@ -81,7 +82,12 @@ impl ListSchedule<'_> {
 
 impl<'py> OnGraph<'py> for ListSchedule<'_> {
     type Output = Bound<'py, PyAny>;
-    fn run<I: Index>(self, py: Python<'py>, indptr: &[I], indices: &[I]) -> PyResult<Self::Output> {
+    fn run<I: Index, P: Index>(
+        self,
+        py: Python<'py>,
+        indptr: &[P],
+        indices: &[I],
+    ) -> PyResult<Self::Output> {
         match self.durations {
             Durations::Int(d) => self.with(py, (indptr, indices), d.values()?),
             Durations::Float(d) => self.with(py, (indptr, indices), d.values()?),
@@ -129,12 +135,13 @@ struct BottomLevels<'a> {
     durations: &'a Durations<'a>,
 }
 
-fn bottom<'py, I: Index, T: Duration + Element>(
+fn bottom<'py, I: Index, P: Index, T: Duration + Element>(
     py: Python<'py>,
-    (indptr, indices): (&[I], &[I]),
+    (indptr, indices): (&[P], &[I]),
     durations: &[T],
 ) -> PyResult<Bound<'py, PyAny>> {
-    let found = compute(py, || schedule::bottom_levels(&Csr::new(indptr, indices)?, durations))?;
+    let found =
+        compute(py, || schedule::bottom_levels(&Csr::from_arrays(indptr, indices)?, durations))?;
     match found {
         Ok(level) => Ok(array(py, level).into_bound(py)),
         Err(outcome) => cyclic(py, outcome),
@@ -143,7 +150,12 @@ fn bottom<'py, I: Index, T: Duration + Element>(
 
 impl<'py> OnGraph<'py> for BottomLevels<'_> {
     type Output = Bound<'py, PyAny>;
-    fn run<I: Index>(self, py: Python<'py>, indptr: &[I], indices: &[I]) -> PyResult<Self::Output> {
+    fn run<I: Index, P: Index>(
+        self,
+        py: Python<'py>,
+        indptr: &[P],
+        indices: &[I],
+    ) -> PyResult<Self::Output> {
         match self.durations {
             Durations::Int(d) => bottom(py, (indptr, indices), d.values()?),
             Durations::Float(d) => bottom(py, (indptr, indices), d.values()?),

@@ -42,10 +42,15 @@ struct LevelsOf {
 
 impl<'py> OnGraph<'py> for LevelsOf {
     type Output = Bound<'py, PyAny>;
-    fn run<I: Index>(self, py: Python<'py>, indptr: &[I], indices: &[I]) -> PyResult<Self::Output> {
+    fn run<I: Index, P: Index>(
+        self,
+        py: Python<'py>,
+        indptr: &[P],
+        indices: &[I],
+    ) -> PyResult<Self::Output> {
         let (threads, grouped) = (self.threads, self.grouped);
         let swept = compute(py, || {
-            let csr = Csr::new(indptr, indices)?;
+            let csr = Csr::from_arrays(indptr, indices)?;
             match level_sweep::level_order(&csr, threads)? {
                 Err(cyclic) => Ok(Err(cyclic)),
                 Ok(order) => {
@@ -86,10 +91,15 @@ struct HeightsOf {
 
 impl<'py> OnGraph<'py> for HeightsOf {
     type Output = Bound<'py, PyAny>;
-    fn run<I: Index>(self, py: Python<'py>, indptr: &[I], indices: &[I]) -> PyResult<Self::Output> {
+    fn run<I: Index, P: Index>(
+        self,
+        py: Python<'py>,
+        indptr: &[P],
+        indices: &[I],
+    ) -> PyResult<Self::Output> {
         let threads = self.threads;
         let swept = compute(py, || {
-            let csr = Csr::new(indptr, indices)?;
+            let csr = Csr::from_arrays(indptr, indices)?;
             match level_sweep::level_order(&csr, threads)? {
                 Ok(order) => level_sweep::heights(&csr, &order, threads).map(Ok),
                 Err(outcome) => Ok(Err(outcome)),
@@ -132,9 +142,14 @@ struct CriticalPathOf<'a> {
 
 impl<'py> OnGraph<'py> for CriticalPathOf<'_> {
     type Output = Bound<'py, PyAny>;
-    fn run<I: Index>(self, py: Python<'py>, indptr: &[I], indices: &[I]) -> PyResult<Self::Output> {
+    fn run<I: Index, P: Index>(
+        self,
+        py: Python<'py>,
+        indptr: &[P],
+        indices: &[I],
+    ) -> PyResult<Self::Output> {
         let swept = compute(py, || {
-            let csr = Csr::new(indptr, indices)?;
+            let csr = Csr::from_arrays(indptr, indices)?;
             critical::critical_path(&csr, self.node_weight, self.edge_weight, self.threads)
         })?;
         either(py, swept, |s| CriticalPath {
@@ -215,9 +230,15 @@ struct PathCountsOf {
 
 impl<'py> OnGraph<'py> for PathCountsOf {
     type Output = Bound<'py, PyAny>;
-    fn run<I: Index>(self, py: Python<'py>, indptr: &[I], indices: &[I]) -> PyResult<Self::Output> {
+    fn run<I: Index, P: Index>(
+        self,
+        py: Python<'py>,
+        indptr: &[P],
+        indices: &[I],
+    ) -> PyResult<Self::Output> {
         let threads = self.threads;
-        let swept = compute(py, || paths::path_counts(&Csr::new(indptr, indices)?, threads))?;
+        let swept =
+            compute(py, || paths::path_counts(&Csr::from_arrays(indptr, indices)?, threads))?;
         let counts = match swept {
             Ok(counts) => counts,
             Err(outcome) => return cyclic(py, outcome),
