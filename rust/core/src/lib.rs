@@ -9,6 +9,7 @@
 //! function here panics on user data.
 
 pub mod alloc;
+pub mod build;
 pub mod condense;
 pub mod critical;
 pub mod csr;

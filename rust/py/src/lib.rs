@@ -11,6 +11,7 @@
 
 use pyo3::prelude::*;
 
+mod build;
 mod common;
 mod cycles;
 mod errors;
@@ -28,5 +29,6 @@ fn _core(m: &Bound<'_, PyModule>) -> PyResult<()> {
     schedule::register(m)?;
     sweeps::register(m)?;
     cycles::register(m)?;
+    build::register(m)?;
     Ok(())
 }
