@@ -57,6 +57,9 @@ class Graph:
     # The edge list the graph was grouped from, kept (not copied) so per-edge
     # input positions can be recomputed on demand.
     _edges: tuple[np.ndarray, np.ndarray] | None = field(default=None, repr=False)
+    # Input position of each stored edge, when a streaming build kept them
+    # (input not grouped by source) instead of the edge list.
+    _positions: np.ndarray | None = field(default=None, repr=False)
 
     def __repr__(self) -> str:
         kind = "labelled" if self.labels is not None else "ids"
@@ -90,6 +93,8 @@ class Graph:
         Edge-list input is grouped by source with a stable sort, so the
         ``k``-th stored edge was edge ``edge_input_positions()[k]`` of the input.
         """
+        if self._positions is not None:
+            return self._positions
         if self._edges is None:
             return None
         src, dst = self._edges

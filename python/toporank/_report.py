@@ -33,7 +33,7 @@ SHOWN_NODES = 12
 
 def plain(g: Graph) -> Graph:
     """The same graph without labels, so the core's answers stay node ids."""
-    return g if g.labels is None else Graph(g.indptr, g.indices, None, None, g._edges)
+    return g if g.labels is None else Graph(g.indptr, g.indices, None, None, g._edges, g._positions)
 
 
 def named(g: Graph, ids: Any) -> list[Any]:
