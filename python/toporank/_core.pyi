@@ -10,10 +10,12 @@ import numpy as np
 
 __all__ = [
     "Agreement",
+    "BuiltCsr",
     "Components",
     "Condensation",
     "CriticalPath",
     "CsrArrays",
+    "CsrBuilder",
     "Cut",
     "Cyclic",
     "ExactCounts",
@@ -25,6 +27,7 @@ __all__ = [
     "Violation",
     "_raise_error_kind",
     "bottom_levels",
+    "check_csr",
     "condensation",
     "critical_path",
     "cut_cycles",
@@ -285,3 +288,30 @@ def cycle_witness(
     indptr: np.ndarray, indices: np.ndarray, through: int | None = None
 ) -> np.ndarray | None: ...
 def cut_cycles(indptr: np.ndarray, indices: np.ndarray) -> Cut: ...
+
+# edge batches to CSR in bounded memory; checks of saved arrays
+@final
+class BuiltCsr:
+    @property
+    def indptr(self) -> np.ndarray: ...
+    @property
+    def indices(self) -> np.ndarray: ...
+    @property
+    def positions(self) -> np.ndarray | None: ...
+
+@final
+class CsrBuilder:
+    """Two passes: ``count`` every batch, ``start``, ``place`` the same batches, ``finish``."""
+    def __new__(cls) -> CsrBuilder: ...
+    def count(self, src: np.ndarray, dst: np.ndarray) -> None: ...
+    @property
+    def edges(self) -> int: ...
+    @property
+    def nodes(self) -> int: ...
+    @property
+    def grouped(self) -> bool: ...
+    def start(self, n: int, positions: bool = False) -> None: ...
+    def place(self, src: np.ndarray, dst: np.ndarray) -> None: ...
+    def finish(self) -> BuiltCsr: ...
+
+def check_csr(indptr: np.ndarray, indices: np.ndarray) -> None: ...

@@ -43,7 +43,7 @@ class EdgeBatch:
 
 
 class LabelIndex:
-    """String labels numbered in first-seen order (row by row, source before target), batch by batch.
+    """String labels numbered in first-seen order (row by row, source before target).
 
     Holds one Python string per distinct label, never one per edge: each
     batch is dictionary-encoded by pyarrow, and only the batch's distinct

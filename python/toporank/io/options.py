@@ -103,8 +103,6 @@ def file_format(name: str, format: str | None) -> str:
         if format not in FILE_FORMATS:
             raise GraphInputError(f"format must be one of {FILE_FORMATS}, got {format!r}")
         return format
-    if os.path.isdir(name):
-        return "saved" if os.path.exists(os.path.join(name, SAVED_DESCRIPTION)) else "parquet"
     lower = name.lower().removesuffix(".gz")
     if lower.endswith((".parquet", ".pq")):
         return "parquet"
@@ -114,4 +112,6 @@ def file_format(name: str, format: str | None) -> str:
         return "npz"
     if lower.endswith(".npy"):
         return "npy"
+    if os.path.isdir(name):
+        return "saved" if os.path.exists(os.path.join(name, SAVED_DESCRIPTION)) else "parquet"
     return "text"

@@ -38,10 +38,16 @@ class ParquetEdges:
         try:
             dataset = ds.dataset(name, format="parquet")
         except (OSError, ValueError) as exc:
-            raise GraphFileError(name, f"is not a readable Parquet file or dataset ({exc})") from None
+            raise GraphFileError(
+                name, f"is not a readable Parquet file or dataset ({exc})"
+            ) from None
         self.files = sorted(dataset.files)
         if not self.files:
-            raise GraphFileError(name, "holds no Parquet files")
+            raise GraphFileError(
+                name,
+                "holds no Parquet files (a folder is read as a Parquet dataset unless it "
+                "holds graph.json, a saved graph)",
+            )
         self.columns = _chosen(name, dataset.schema, options.columns)
         kinds = [_kind(name, dataset.schema.field(c)) for c in self.columns]
         if kinds[0] != kinds[1]:
@@ -142,5 +148,3 @@ def _kind(name: str, field: Any) -> str:
     raise GraphFileError(
         name, f"column {field.name!r} has type {field.type}; node columns hold integers or strings"
     )
-
-

@@ -98,7 +98,9 @@ def save_graph(graph: Graph, folder: str, source: dict[str, Any] | None = None) 
         _replace(work, folder)
     except OSError as exc:
         shutil.rmtree(work, ignore_errors=True)
-        raise GraphFileError(folder, f"cannot write the saved graph: {exc.strerror or exc}") from None
+        raise GraphFileError(
+            folder, f"cannot write the saved graph: {exc.strerror or exc}"
+        ) from None
     except BaseException:
         shutil.rmtree(work, ignore_errors=True)
         raise
@@ -186,13 +188,14 @@ def _description(folder: str) -> dict[str, Any]:
         if description.get(key) not in _WIDTHS:
             raise GraphFileError(
                 folder,
-                f"{SAVED_DESCRIPTION}: {key} must be one of {_WIDTHS}, got {description.get(key)!r}",
+                f"{SAVED_DESCRIPTION}: {key} must be one of {_WIDTHS}, "
+                f"got {description.get(key)!r}",
             )
     for key in ("positions", "labels"):
         if not isinstance(description.get(key), bool):
             raise GraphFileError(
-                folder, f"{SAVED_DESCRIPTION}: {key} must be true or false, got "
-                f"{description.get(key)!r}"
+                folder,
+                f"{SAVED_DESCRIPTION}: {key} must be true or false, got {description.get(key)!r}",
             )
     return description
 
