@@ -202,5 +202,9 @@ def read_input(args: argparse.Namespace) -> Graph:
         progress=not args.quiet and sys.stderr is not None,
         note=lambda message: note(args, message),
         spill_dir=spill_folder(args),
+        # edges are named by input position only when cut: elsewhere save the memory
+        edge_positions=getattr(args, "on_cycle", None) == "cut"
+        or bool(getattr(args, "cut", False))
+        or args.command == "pack",
     )
     return read_graph(args.file, options)

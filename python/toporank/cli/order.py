@@ -122,7 +122,9 @@ def write_order(
         write(args.output, lambda f: np.save(f, array, allow_pickle=False), binary=True)
         return
     if kind == "lines":
-        write(args.output, lambda f: write_lines(f, node_strings(g, ids), progress=progress))
+        # ids (or labels) turned to text chunk by chunk, not a string per node at once
+        nodes = ids if g.labels is None else g.labels[ids]
+        write(args.output, lambda f: write_lines(f, nodes, progress=progress))
         return
     header = ["node", "position"]
     columns: list[Any] = [node_strings(g, ids), np.arange(len(ids))]

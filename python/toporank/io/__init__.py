@@ -185,4 +185,5 @@ def _built(batches: Any, labels: Any, options: ReadOptions) -> Graph:
         spill_dir=options.spill_dir,
         spill_limit_bytes=options.spool_limit_bytes,
         progress=options.progress,
+        edge_positions=options.edge_positions,
     )

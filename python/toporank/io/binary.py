@@ -202,6 +202,7 @@ def read_npy(path: str, options: ReadOptions | None = None) -> Graph:
             spill_dir=options.spill_dir,
             spill_limit_bytes=options.spool_limit_bytes,
             progress=options.progress,
+            edge_positions=options.edge_positions,
         )
     except GraphInputError as exc:
         raise GraphFileError(path, _row_words(str(exc))) from None

@@ -100,6 +100,7 @@ def build_graph(
     spill_dir: str | None = None,
     spill_limit_bytes: int = SPOOL_LIMIT_BYTES,
     progress: bool = False,
+    edge_positions: bool = True,
 ) -> Graph:
     """The Graph of all ``batches`` in order; ``labels`` names the ids when given.
 
@@ -121,12 +122,17 @@ def build_graph(
     progress
         Show a progress bar of the placing pass on a terminal (the reader
         shows its own while the batches are read).
+    edge_positions
+        Keep each stored edge's input position when the input is not
+        grouped by source (see :meth:`Graph.edge_input_positions`).
 
     Rows keep the input order of their edges.
     """
     if isinstance(batches, (list, tuple)):
         return _in_memory(list(batches), labels, n)
-    return _streamed(iter(batches), labels, n, spill_dir, spill_limit_bytes, progress)
+    return _streamed(
+        iter(batches), labels, n, spill_dir, spill_limit_bytes, progress, edge_positions
+    )
 
 
 def _label_array(labels: Any) -> np.ndarray | None:
@@ -247,6 +253,7 @@ def _streamed(
     spill_dir: str | None,
     limit: int,
     progress: bool,
+    edge_positions: bool,
 ) -> Graph:
     builder = _core.CsrBuilder()
     with spill_folder(spill_dir) as folder:
@@ -270,11 +277,12 @@ def _streamed(
                 )
             nodes = n
         grouped = builder.grouped
-        builder.start(nodes, not grouped)
+        builder.start(nodes, edge_positions and not grouped)
         with _bar(builder.edges, "building", "graph", progress, unit="edges") as bar:
             for src, dst in spill.batches():
                 builder.place(src, dst)
                 bar.update(len(src))
         built = builder.finish()
-    graph = Graph(built.indptr, built.indices, names, None, None, built.positions)
-    return graph
+    if grouped or edge_positions:
+        return Graph(built.indptr, built.indices, names, None, None, built.positions)
+    return Graph(built.indptr, built.indices, names, None, None, None, _positions_dropped=True)

@@ -65,6 +65,13 @@ class ReadOptions:
         Most bytes copied from a pipe or device for a second pass
         (``TOPORANK_SPOOL_LIMIT``, default 64 GiB), and most bytes of
         edges spilled to a temporary file while a graph is built.
+    edge_positions : bool
+        Keep the input position of every stored edge when the input is not
+        grouped by source (4 bytes per edge while the edge count fits int32),
+        so that edges can be named by input position
+        (:meth:`Graph.edge_input_positions`: cut edges, per-edge weights
+        given in input order). False saves that memory; such a graph
+        refuses to name edges by input position.
     spill_dir : str or None
         Folder for the temporary edge spill of a streamed build (default:
         the system's temporary folder, ``TMPDIR``).
@@ -95,6 +102,7 @@ class ReadOptions:
         default_factory=lambda: _env_bytes("TOPORANK_SPOOL_LIMIT", SPOOL_LIMIT_BYTES)
     )
     spill_dir: str | None = None
+    edge_positions: bool = True
 
 
 def file_format(name: str, format: str | None) -> str:
