@@ -34,7 +34,7 @@ import numpy as np
 
 from .. import _core
 from .._errors import GraphInputError
-from .._graph import Graph
+from .._graph import Graph, as_graph
 from .common import GraphFileError
 from .options import SAVED_DESCRIPTION
 
@@ -46,23 +46,45 @@ _WIDTHS = ("int32", "int64")
 _DESCRIPTION_BYTES = 1 << 20
 
 
-def save_graph(graph: Graph, folder: str, source: dict[str, Any] | None = None) -> None:
-    """Write ``graph`` as a saved-graph folder at ``folder``, atomically.
+def save_graph(
+    graph: Any, folder: str | os.PathLike[str], source: dict[str, Any] | None = None
+) -> None:
+    """Write ``graph`` as a saved-graph folder at ``folder``, atomically; return None.
 
-    An existing saved graph at ``folder`` is replaced; any other existing
-    file or folder there is refused.
+    The folder holds the CSR arrays as ``.npy`` files and a JSON
+    description (see :mod:`toporank.io.saved`); :func:`read_graph` opens it
+    memory-mapped in well under a second whatever its size. Labels are saved
+    as text. An existing saved graph at ``folder`` is replaced; any other
+    existing file or folder there is refused.
+
+    Parameters
+    ----------
+    graph
+        The graph to save, in any form :func:`toporank.order` accepts.
+    folder : str
+        The folder to write (its parent must exist).
+    source : dict, optional
+        Where the graph came from (path, format, ...), kept in the description.
+
+    Raises
+    ------
+    GraphFileError
+        ``folder`` exists and is not a saved graph, or cannot be written.
 
     Examples
     --------
-    >>> import os, tempfile, numpy as np, toporank
-    >>> from toporank.io import save_graph
+    >>> import os, tempfile, toporank
     >>> folder = os.path.join(tempfile.mkdtemp(), "modules.graph")
-    >>> save_graph(toporank.Graph.from_pairs([("core", "app"), ("log", "core")]), folder)
+    >>> g = toporank.Graph.from_pairs([("core", "app"), ("log", "core")])
+    >>> toporank.save_graph(g, folder)
+    >>> sorted(os.listdir(folder))
+    ['graph.json', 'indices.npy', 'indptr.npy', 'labels.arrow']
     >>> g = toporank.read_graph(folder)
     >>> toporank.order(g)
     array(['log', 'core', 'app'], dtype=object)
     """
-    folder = os.path.abspath(folder)
+    graph = as_graph(graph)
+    folder = os.path.abspath(os.fspath(folder))
     if os.path.lexists(folder) and not os.path.exists(os.path.join(folder, SAVED_DESCRIPTION)):
         raise GraphFileError(
             folder, "exists and is not a saved graph; refusing to replace it (remove it first)"

@@ -102,9 +102,6 @@ impl DegreeCount {
         if n < self.nodes {
             return Err(Error::NoSuchNode { what: "largest id", value: self.nodes as i128 - 1, n });
         }
-        if n >= P::MAX_USIZE {
-            return Err(Error::TooLarge { what: "node count", count: n, max: P::MAX_USIZE - 1 });
-        }
         if self.edges > P::MAX_USIZE {
             return Err(Error::TooLarge {
                 what: "edge count",
