@@ -18,7 +18,10 @@ __all__ = [
     "CsrBuilder",
     "Cut",
     "Cyclic",
+    "EdgeIds",
     "ExactCounts",
+    "LabelBytes",
+    "LabelInterner",
     "Levels",
     "LogCounts",
     "OrderMetrics",
@@ -315,3 +318,31 @@ class CsrBuilder:
     def finish(self) -> BuiltCsr: ...
 
 def check_csr(indptr: np.ndarray, indices: np.ndarray) -> None: ...
+
+@final
+class EdgeIds:
+    @property
+    def src(self) -> np.ndarray: ...
+    @property
+    def dst(self) -> np.ndarray: ...
+
+@final
+class LabelBytes:
+    @property
+    def offsets(self) -> np.ndarray: ...
+    @property
+    def data(self) -> np.ndarray: ...
+
+@final
+class LabelInterner:
+    """Labels numbered in first-seen order, row by row, source before target."""
+    def __new__(cls) -> LabelInterner: ...
+    def __len__(self) -> int: ...
+    def intern(
+        self,
+        src_offsets: np.ndarray,
+        src_data: np.ndarray,
+        dst_offsets: np.ndarray,
+        dst_data: np.ndarray,
+    ) -> EdgeIds: ...
+    def labels(self) -> LabelBytes: ...

@@ -45,51 +45,52 @@ class EdgeBatch:
 class LabelIndex:
     """String labels numbered in first-seen order (row by row, source before target).
 
-    Holds one Python string per distinct label, never one per edge: each
-    batch is dictionary-encoded by pyarrow, and only the batch's distinct
-    labels are looked up in the global map.
+    The compiled core keeps one entry per distinct label, never one per edge
+    and never a Python object per label while reading: each batch's pyarrow
+    string buffers are handed over as they are and ids come back.
     """
 
     def __init__(self) -> None:
-        self._ids: dict[str, int] = {}
+        self._interner = _core.LabelInterner()
 
     def __len__(self) -> int:
-        return len(self._ids)
+        return len(self._interner)
 
     def intern(self, src: Any, dst: Any) -> EdgeBatch:
-        """Ids of one batch of labels (pyarrow string arrays of equal length)."""
-        import pyarrow as pa
-        import pyarrow.compute as pc
-
-        m = len(src)
-        if src.type != dst.type:
-            src, dst = src.cast(pa.large_string()), dst.cast(pa.large_string())
-        encoded = pc.dictionary_encode(pa.chunked_array([src, dst], type=src.type))
-        src_codes = encoded.chunk(0).indices.to_numpy()
-        dst_codes = encoded.chunk(1).indices.to_numpy()
-        dictionary = encoded.chunk(1).dictionary if encoded.num_chunks > 1 else pa.array([])
-        count = len(dictionary)
-        # the batch's labels in first-seen order, row by row, source before target
-        first_seen = np.full(count, 2 * m, dtype=np.int64)
-        np.minimum.at(first_seen, src_codes, np.arange(0, 2 * m, 2, dtype=np.int64))
-        np.minimum.at(first_seen, dst_codes, np.arange(1, 2 * m, 2, dtype=np.int64))
-        seen_order = np.argsort(first_seen, kind="stable")
-        ids = self._ids
-        words = dictionary.take(pa.array(seen_order)).to_pylist()
-        global_of_seen = np.fromiter(
-            (ids.setdefault(word, len(ids)) for word in words), dtype=np.int64, count=count
-        )
-        global_of_code = np.empty(count, dtype=np.int64)
-        global_of_code[seen_order] = global_of_seen
-        width = np.int32 if len(ids) <= _INT32_MAX else np.int64
-        table = global_of_code.astype(width, copy=False)
-        return EdgeBatch(table[src_codes], table[dst_codes])
+        """Ids of one batch of labels (pyarrow string arrays of equal length, no nulls)."""
+        src_offsets, src_data = _string_buffers(src)
+        dst_offsets, dst_data = _string_buffers(dst)
+        if src_offsets.dtype != dst_offsets.dtype:
+            src_offsets, dst_offsets = src_offsets.astype(np.int64), dst_offsets.astype(np.int64)
+        ids = self._interner.intern(src_offsets, src_data, dst_offsets, dst_data)
+        return EdgeBatch(ids.src, ids.dst)
 
     def labels(self) -> np.ndarray:
-        """``labels[i]`` names id ``i``."""
-        labels = np.empty(len(self._ids), dtype=object)
-        labels[:] = list(self._ids)
-        return labels
+        """``labels[i]`` names id ``i`` (an object array of str)."""
+        import pyarrow as pa
+
+        found = self._interner.labels()
+        column = pa.LargeStringArray.from_buffers(
+            len(found.offsets) - 1, pa.py_buffer(found.offsets), pa.py_buffer(found.data)
+        )
+        return np.asarray(column.to_numpy(zero_copy_only=False), dtype=object)
+
+
+def _string_buffers(column: Any) -> tuple[np.ndarray, np.ndarray]:
+    """Offsets (int32 or int64) and UTF-8 bytes of a pyarrow string array, without a copy."""
+    import pyarrow as pa
+
+    if isinstance(column, pa.ChunkedArray):
+        column = column.combine_chunks()
+    if not (pa.types.is_string(column.type) or pa.types.is_large_string(column.type)):
+        column = column.cast(pa.large_string())
+    width = np.int64 if pa.types.is_large_string(column.type) else np.int32
+    _, offsets, data = column.buffers()
+    positions = np.frombuffer(offsets, dtype=width)[column.offset : column.offset + len(column) + 1]
+    if len(positions) == 0:
+        positions = np.zeros(1, dtype=width)
+    values = np.frombuffer(data, dtype=np.uint8) if data is not None else np.zeros(0, np.uint8)
+    return np.ascontiguousarray(positions), values
 
 
 def build_graph(
@@ -239,7 +240,14 @@ class _Spill:
 @contextlib.contextmanager
 def spill_folder(spill_dir: str | None) -> Iterator[str]:
     """A private temporary folder, removed on the way out whatever happens."""
-    folder = tempfile.mkdtemp(prefix="toporank-spill-", dir=spill_dir)
+    try:
+        folder = tempfile.mkdtemp(prefix="toporank-spill-", dir=spill_dir)
+    except OSError as exc:
+        where = spill_dir or tempfile.gettempdir()
+        raise GraphInputError(
+            f"cannot create a temporary folder for the edge spill in {where}: "
+            f"{exc.strerror or exc}; set TMPDIR to a writable folder with room"
+        ) from None
     try:
         yield folder
     finally:

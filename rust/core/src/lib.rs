@@ -18,6 +18,7 @@ pub mod edges;
 pub mod error;
 pub mod heap;
 pub mod index;
+pub mod intern;
 pub mod interrupt;
 pub mod kahn;
 pub mod levels;

@@ -7,6 +7,7 @@
 
 use pyo3::prelude::*;
 use toporank_core::build::{DegreeCount, Placement};
+use toporank_core::intern::{Interner, Labels};
 use toporank_core::{alloc, Csr, Error};
 
 use crate::common::{array, compute, has_dtype, on_graph, read, Array, Index, OnGraph};
@@ -211,7 +212,88 @@ fn check_csr<'py>(
     on_graph(py, indptr, indices, Check)
 }
 
+/// Ids of one batch of labelled edges.
+#[pyclass(frozen, module = "toporank._core")]
+pub(crate) struct EdgeIds {
+    #[pyo3(get)]
+    src: Py<PyAny>,
+    #[pyo3(get)]
+    dst: Py<PyAny>,
+}
+
+/// Every interned label in id order, as Arrow large-string buffers.
+#[pyclass(frozen, module = "toporank._core")]
+pub(crate) struct LabelBytes {
+    /// `data[offsets[i]:offsets[i + 1]]` is label `i` (int64).
+    #[pyo3(get)]
+    offsets: Py<PyAny>,
+    /// UTF-8 bytes of all labels (uint8).
+    #[pyo3(get)]
+    data: Py<PyAny>,
+}
+
+/// Node labels numbered in first-seen order (row by row, source before
+/// target), batch after batch; one entry per distinct label.
+#[pyclass(module = "toporank._core")]
+pub(crate) struct LabelInterner(Interner);
+
+#[pymethods]
+impl LabelInterner {
+    #[new]
+    fn new() -> Self {
+        LabelInterner(Interner::new())
+    }
+
+    fn __len__(&self) -> usize {
+        self.0.len()
+    }
+
+    /// Ids of one batch: each column as Arrow string buffers, `offsets`
+    /// (int32 or int64, one more than the labels) into `data` (uint8).
+    fn intern<'py>(
+        &mut self,
+        py: Python<'py>,
+        src_offsets: &Bound<'py, PyAny>,
+        src_data: &Bound<'py, PyAny>,
+        dst_offsets: &Bound<'py, PyAny>,
+        dst_data: &Bound<'py, PyAny>,
+    ) -> PyResult<EdgeIds> {
+        const BYTES: &str = "uint8";
+        let src_data = read::<u8>(src_data, "src_data", BYTES)?;
+        let dst_data = read::<u8>(dst_data, "dst_data", BYTES)?;
+        let (sd, dd) = (src_data.values()?, dst_data.values()?);
+        let interner = &mut self.0;
+        let (src, dst) = match read_batch(src_offsets, dst_offsets)? {
+            Batch::Narrow(so, to) => {
+                let (so, to) = (so.values()?, to.values()?);
+                compute(py, || {
+                    interner
+                        .intern(Labels { offsets: so, data: sd }, Labels { offsets: to, data: dd })
+                })?
+            }
+            Batch::Wide(so, to) => {
+                let (so, to) = (so.values()?, to.values()?);
+                compute(py, || {
+                    interner
+                        .intern(Labels { offsets: so, data: sd }, Labels { offsets: to, data: dd })
+                })?
+            }
+        };
+        Ok(EdgeIds { src: array(py, src), dst: array(py, dst) })
+    }
+
+    /// Every label so far, in id order.
+    fn labels(&self, py: Python<'_>) -> PyResult<LabelBytes> {
+        let interner = &self.0;
+        let (offsets, data) = compute(py, || interner.labels())?;
+        Ok(LabelBytes { offsets: array(py, offsets), data: array(py, data) })
+    }
+}
+
 pub(crate) fn register(m: &Bound<'_, PyModule>) -> PyResult<()> {
+    m.add_class::<LabelInterner>()?;
+    m.add_class::<EdgeIds>()?;
+    m.add_class::<LabelBytes>()?;
     m.add_class::<CsrBuilder>()?;
     m.add_class::<BuiltCsr>()?;
     m.add_function(wrap_pyfunction!(check_csr, m)?)?;
