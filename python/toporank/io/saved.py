@@ -78,7 +78,7 @@ def save_graph(
     >>> g = toporank.Graph.from_pairs([("core", "app"), ("log", "core")])
     >>> toporank.save_graph(g, folder)
     >>> sorted(os.listdir(folder))
-    ['graph.json', 'indices.npy', 'indptr.npy', 'labels.arrow']
+    ['graph.json', 'indices.npy', 'indptr.npy', 'labels.arrow', 'positions.npy']
     >>> g = toporank.read_graph(folder)
     >>> toporank.order(g)
     array(['log', 'core', 'app'], dtype=object)
