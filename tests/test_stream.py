@@ -505,3 +505,47 @@ def test_ctrl_c_while_building_removes_the_spill(tmp_path):
     assert time.monotonic() - sent < 3  # honoured within about a second (slack for load)
     assert process.returncode == 130, err
     assert list(out.iterdir()) == []  # neither spill nor partial output left
+
+
+# ---------------------------------------------------------------------------
+# progress on long phases
+
+
+class _Terminal:
+    """A text stream that says it is a terminal and keeps what was written."""
+
+    def __init__(self):
+        self.written = []
+
+    def isatty(self):
+        return True
+
+    def write(self, text):
+        self.written.append(text)
+        return len(text)
+
+    def flush(self):
+        pass
+
+
+def test_compute_phases_show_elapsed_time_only_on_a_terminal_and_never_with_q(monkeypatch):
+    import argparse
+
+    from toporank.cli.output import working
+
+    terminal = _Terminal()
+    monkeypatch.setattr(sys, "stderr", terminal)
+    with working(argparse.Namespace(quiet=False), "ordering"):
+        time.sleep(1.5)  # past the one-second delay before anything is drawn
+    shown = "".join(terminal.written)
+    assert "ordering" in shown and "00:01" in shown, shown
+    for quiet, stream in ((True, _Terminal()), (False, _Pipe())):
+        monkeypatch.setattr(sys, "stderr", stream)
+        with working(argparse.Namespace(quiet=quiet), "ordering"):
+            time.sleep(1.3)
+        assert stream.written == []
+
+
+class _Pipe(_Terminal):
+    def isatty(self):
+        return False
