@@ -5,7 +5,14 @@ Ratios are measured in one run, on the same file, best of a few rounds:
 ``pyarrow.csv.read_csv`` (parse only, types inferred as a user would call
 it; a ratio against a typed read is shown too). The end-to-end row runs the
 ``toporank order`` command as a subprocess and reports its wall time and
-peak memory. ``TOPORANK_BENCH_SMALL=1`` shrinks the files to a smoke test.
+peak memory per edge (target <= 16 bytes per edge). Reopening a saved graph
+(``toporank pack``) is timed too (target < 1 s at any size).
+
+Opt-in sizes: ``TOPORANK_BENCH_EDGES`` (default 10M edges) sets the file
+size; ``TOPORANK_BENCH_BASELINE_PYTHON`` names another installation's
+interpreter (say an older build), whose ``toporank order`` runs side by side
+on the same file for before/after ratios of time and peak memory.
+``TOPORANK_BENCH_SMALL=1`` shrinks the files to a smoke test.
 """
 
 from __future__ import annotations
@@ -25,7 +32,8 @@ import toporank
 from toporank._synthetic import citation_dag
 
 SMALL = os.environ.get("TOPORANK_BENCH_SMALL") == "1"
-EDGES = 20_000 if SMALL else 10_000_000
+EDGES = 20_000 if SMALL else int(os.environ.get("TOPORANK_BENCH_EDGES", 10_000_000))
+BASELINE = os.environ.get("TOPORANK_BENCH_BASELINE_PYTHON")
 PER_PAPER = 10
 ROUNDS = 1 if SMALL else 5
 TAB = pacsv.ParseOptions(delimiter="\t")
@@ -162,3 +170,66 @@ def test_order_command_end_to_end(benchmark, record, files, tmp_path):
     benchmark.extra_info["peak MiB"] = report["peak_memory_mib"]
     benchmark.extra_info["phases s"] = report["seconds"]
     print(f"  phases {report['seconds']}, peak memory {report['peak_memory_mib']} MiB")
+
+
+def _order_command(python, path, output, summary):
+    return [python, "-m", "toporank", "order", path, "-o", str(output), "--summary", str(summary)]
+
+
+def test_order_command_memory_per_edge_before_and_after(record, files, tmp_path):
+    """Peak resident memory per edge and wall time of ``toporank order FILE -o OUT``."""
+    path = files["ids"]
+    contenders = {"ours": sys.executable}
+    if BASELINE:
+        contenders["baseline"] = BASELINE
+    figures: dict[str, dict[str, float]] = {name: {} for name in contenders}
+
+    def runner(name, python):
+        output, summary = tmp_path / f"{name}.txt", tmp_path / f"{name}.json"
+
+        def run():
+            subprocess.run(
+                [*_order_command(python, path, output, summary), "-q"], check=True, timeout=3600
+            )
+            report = json.loads(summary.read_text())
+            figures[name]["peak"] = min(figures[name].get("peak", 1e18), report["peak_memory_mib"])
+
+        return run
+
+    names = list(contenders)
+    times, _ = _interleaved([runner(name, contenders[name]) for name in names], max(ROUNDS // 2, 1))
+    for name, seconds in zip(names, times, strict=True):
+        per_edge = figures[name]["peak"] * 2**20 / EDGES
+        record(
+            f"io: order FILE -o OUT, {name}, peak bytes per edge ({EDGES} edges)",
+            per_edge,
+            "target <= 16" if name == "ours" else "",
+        )
+        record(
+            f"io: order FILE -o OUT, {name}, seconds per 10M edges",
+            seconds * 1e7 / EDGES,
+            "target <= 1.2" if name == "ours" else "",
+        )
+    if BASELINE:
+        assert (tmp_path / "ours.txt").read_bytes() == (tmp_path / "baseline.txt").read_bytes()
+        record("io: order FILE -o OUT, time ours / baseline", times[0] / times[1])
+        record(
+            "io: order FILE -o OUT, peak memory ours / baseline",
+            figures["ours"]["peak"] / figures["baseline"]["peak"],
+        )
+
+
+def test_reopening_a_saved_graph(record, files, tmp_path):
+    """``toporank pack`` once, then ``read_graph`` on the folder: mapped and checked, no parse."""
+    folder = tmp_path / "edges.graph"
+    subprocess.run(
+        [sys.executable, "-m", "toporank", "pack", files["ids"], "-o", str(folder), "-q"],
+        check=True,
+        timeout=3600,
+    )
+    (parse, reopen), (parsed, reopened) = _interleaved(
+        [lambda: toporank.read_graph(files["ids"]), lambda: toporank.read_graph(str(folder))]
+    )
+    np.testing.assert_array_equal(reopened.indices, parsed.indices)
+    record(f"io: reopen a saved graph, seconds ({EDGES} edges)", reopen, "target < 1")
+    record(f"io: reopen a saved graph / parse the text ({EDGES} edges)", reopen / parse)

@@ -391,7 +391,8 @@ def test_demo_writes_its_outputs_and_reports_the_loops(tmp_path):
     years = [int(r[2]) for r in rows]
     assert years == sorted(years)  # priority by year on a graph whose edges never go back in time
     index = {p: i for i, p in enumerate(emitted)}
-    src, dst = citations._edges
+    src = np.repeat(np.arange(citations.n), np.diff(citations.indptr))
+    dst = citations.indices
     labels = citations.labels
     # papers of one invented citation ring may come in any order among themselves
     # (--on-cycle condense keeps them together); every other citation goes forward

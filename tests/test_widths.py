@@ -51,6 +51,7 @@ CALLS = {
     "order": lambda g: toporank.order(g, tie="priority").tolist(),
     "positions": lambda g: toporank.positions(toporank.order(g)).tolist(),
     "read_graph": lambda g: _saved_and_read(g).indices.tolist(),
+    "save_graph": lambda g: _packed_and_reopened(g),
     "verify_order": lambda g: _verified(g),
     "order_metrics": lambda g: dict(
         toporank.order_metrics(g, toporank.order(g), key=np.arange(N)[::-1])
@@ -105,6 +106,16 @@ def _saved_and_read(matrix):
         path = os.path.join(folder, "g.npz")
         sp.save_npz(path, matrix)
         return toporank.read_graph(path)
+
+
+def _packed_and_reopened(matrix):
+    """A saved graph reopens with the same arrays, at the width it was saved with."""
+    with tempfile.TemporaryDirectory() as folder:
+        path = os.path.join(folder, "g.graph")
+        toporank.save_graph(toporank.as_graph(matrix), path)
+        g = toporank.read_graph(path)
+        assert g.indices.dtype == matrix.indices.dtype
+        return g.indptr.tolist(), g.indices.tolist()
 
 
 # Public callables that take no graph.

@@ -26,7 +26,7 @@ try:
     from ._order import TIES, order, positions, verify_order
     from ._schedule import SCHEDULE_TIES, Schedule, schedule
     from ._sweeps import CriticalPath, PathCounts, critical_path, heights, levels, path_counts
-    from .io import GraphFileError, ReadOptions, read_graph
+    from .io import GraphFileError, ReadOptions, read_graph, save_graph
 except KeyboardInterrupt:
     # Ctrl-C while the command starts (numpy and the core load): no traceback
     if _run_as_command():
@@ -65,6 +65,7 @@ __all__ = [
     "path_counts",
     "positions",
     "read_graph",
+    "save_graph",
     "schedule",
     "verify_order",
 ]

@@ -10,13 +10,18 @@ import numpy as np
 
 __all__ = [
     "Agreement",
+    "BuiltCsr",
     "Components",
     "Condensation",
     "CriticalPath",
     "CsrArrays",
+    "CsrBuilder",
     "Cut",
     "Cyclic",
+    "EdgeIds",
     "ExactCounts",
+    "LabelBytes",
+    "LabelInterner",
     "Levels",
     "LogCounts",
     "OrderMetrics",
@@ -25,6 +30,7 @@ __all__ = [
     "Violation",
     "_raise_error_kind",
     "bottom_levels",
+    "check_csr",
     "condensation",
     "critical_path",
     "cut_cycles",
@@ -344,3 +350,58 @@ class DynamicCore:
     def position(self, v: int) -> int: ...
     def precedes(self, u: int, v: int) -> bool: ...
     def to_csr(self) -> CsrArrays: ...
+
+# edge batches to CSR in bounded memory; checks of saved arrays
+@final
+class BuiltCsr:
+    @property
+    def indptr(self) -> np.ndarray: ...
+    @property
+    def indices(self) -> np.ndarray: ...
+    @property
+    def positions(self) -> np.ndarray | None: ...
+
+@final
+class CsrBuilder:
+    """Two passes: ``count`` every batch, ``start``, ``place`` the same batches, ``finish``."""
+    def __new__(cls) -> CsrBuilder: ...
+    def count(self, src: np.ndarray, dst: np.ndarray) -> None: ...
+    @property
+    def edges(self) -> int: ...
+    @property
+    def nodes(self) -> int: ...
+    @property
+    def grouped(self) -> bool: ...
+    def start(self, n: int, positions: bool = False) -> None: ...
+    def place(self, src: np.ndarray, dst: np.ndarray) -> None: ...
+    def finish(self) -> BuiltCsr: ...
+
+def check_csr(indptr: np.ndarray, indices: np.ndarray) -> None: ...
+
+@final
+class EdgeIds:
+    @property
+    def src(self) -> np.ndarray: ...
+    @property
+    def dst(self) -> np.ndarray: ...
+
+@final
+class LabelBytes:
+    @property
+    def offsets(self) -> np.ndarray: ...
+    @property
+    def data(self) -> np.ndarray: ...
+
+@final
+class LabelInterner:
+    """Labels numbered in first-seen order, row by row, source before target."""
+    def __new__(cls) -> LabelInterner: ...
+    def __len__(self) -> int: ...
+    def intern(
+        self,
+        src_offsets: np.ndarray,
+        src_data: np.ndarray,
+        dst_offsets: np.ndarray,
+        dst_data: np.ndarray,
+    ) -> EdgeIds: ...
+    def labels(self) -> LabelBytes: ...

@@ -61,6 +61,11 @@ class Graph:
     # The edge list the graph was grouped from, kept (not copied) so per-edge
     # input positions can be recomputed on demand.
     _edges: tuple[np.ndarray, np.ndarray] | None = field(default=None, repr=False)
+    # Input position of each stored edge, when a streaming build kept them
+    # (input not grouped by source) instead of the edge list.
+    _positions: np.ndarray | None = field(default=None, repr=False)
+    # read with ReadOptions(edge_positions=False) from input not grouped by source
+    _positions_dropped: bool = field(default=False, repr=False)
 
     def __repr__(self) -> str:
         kind = "labelled" if self.labels is not None else "ids"
@@ -94,6 +99,14 @@ class Graph:
         Edge-list input is grouped by source with a stable sort, so the
         ``k``-th stored edge was edge ``edge_input_positions()[k]`` of the input.
         """
+        if self._positions is not None:
+            return self._positions
+        if self._positions_dropped:
+            raise GraphInputError(
+                "this graph was read with edge_positions=False from input not grouped by "
+                "source, so its edges cannot be named by input position; read it again with "
+                "edge_positions=True"
+            )
         if self._edges is None:
             return None
         src, dst = self._edges

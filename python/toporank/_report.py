@@ -7,6 +7,7 @@ stay integer ids while they work.
 
 from __future__ import annotations
 
+import dataclasses
 from typing import Any
 
 import numpy as np
@@ -33,7 +34,7 @@ SHOWN_NODES = 12
 
 def plain(g: Graph) -> Graph:
     """The same graph without labels, so the core's answers stay node ids."""
-    return g if g.labels is None else Graph(g.indptr, g.indices, None, None, g._edges)
+    return g if g.labels is None else dataclasses.replace(g, labels=None, _label_index=None)
 
 
 def named(g: Graph, ids: Any) -> list[Any]:

@@ -1,7 +1,7 @@
 """The ``toporank`` command: order, levels, cycles, verify and compare graphs stored in files.
 
 One module per subcommand (:mod:`.order`, :mod:`.levels`, :mod:`.cycles`,
-:mod:`.verify`, :mod:`.compare`, :mod:`.demo`) over :mod:`.options` (the
+:mod:`.verify`, :mod:`.compare`, :mod:`.pack`, :mod:`.demo`) over :mod:`.options` (the
 option vocabulary, declared once as argparse parent parsers) and
 :mod:`.output` (exit statuses, messages, writing).
 
@@ -26,7 +26,7 @@ from collections.abc import Sequence
 import toporank
 
 from .._errors import CyclicGraphError, GraphInputError
-from . import compare, cycles, demo, levels, order, verify
+from . import compare, cycles, demo, levels, order, pack, verify
 from .options import common_options, input_options, tie_options
 from .output import (
     EXIT_BAD_INPUT,
@@ -57,6 +57,7 @@ def parser() -> argparse.ArgumentParser:
     cycles.register(commands, reading)
     verify.register(commands, reading)
     compare.register(commands, reading)
+    pack.register(commands, reading)
     demo.register(commands, [common])
     return top
 

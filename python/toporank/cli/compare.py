@@ -17,7 +17,17 @@ from .._graph import Graph
 from .._report import cut_report, induced, named, plain, shown_cycle, without_edges
 from ..io import atomic_output, read_key
 from .options import on_cycle_options, output_options, read_input
-from .output import EXIT_FOUND, EXIT_OK, Unavailable, error, note, output_format, outputs, say
+from .output import (
+    EXIT_FOUND,
+    EXIT_OK,
+    Unavailable,
+    error,
+    note,
+    output_format,
+    outputs,
+    say,
+    working,
+)
 
 
 def register(commands: Any, common: list[argparse.ArgumentParser]) -> None:
@@ -110,7 +120,8 @@ def run(args: argparse.Namespace) -> int:
         options["descending"] = True
     if args.workers is not None:
         options["workers"] = args.workers
-    result = toporank.compare(subject, **options)
+    with working(args, "comparing"):
+        result = toporank.compare(subject, **options)
     kind = output_format(args, "text")
     text = {"csv": result.to_csv, "json": result.to_json}.get(kind, result.table)()
     if args.output:

@@ -11,7 +11,7 @@ from .._report import cut_report, cycle_report, shown_cycle
 from ..io import write_json
 from ..io.write import write_table
 from .options import read_input
-from .output import EXIT_FOUND, EXIT_OK, outputs, say, write
+from .output import EXIT_FOUND, EXIT_OK, outputs, say, working, write
 
 
 def register(commands: Any, common: list[argparse.ArgumentParser]) -> None:
@@ -48,10 +48,11 @@ def run(args: argparse.Namespace) -> int:
     outputs(args, "json", "output")
     g = read_input(args)
     report: dict[str, Any] = {"input": args.file, "nodes": g.n, "edges": g.m}
-    report.update(cycle_report(g, witnesses=True, limit=None if args.json else args.limit))
-    report["is_dag"] = report["cyclic_components"] == 0
-    if args.cut:
-        report["cut"] = cut_report(g)
+    with working(args, "finding cycles"):
+        report.update(cycle_report(g, witnesses=True, limit=None if args.json else args.limit))
+        report["is_dag"] = report["cyclic_components"] == 0
+        if args.cut:
+            report["cut"] = cut_report(g)
     say(render(report, args.limit))
     if args.json:
         write_json(args.json, report)

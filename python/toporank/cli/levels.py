@@ -14,7 +14,7 @@ from .._graph import Graph
 from .._report import cut_report, named, plain, shown_cycle, without_edges
 from ..io.write import node_strings, write_table
 from .options import on_cycle_options, output_options, read_input
-from .output import EXIT_FOUND, EXIT_OK, error, note, output_format, outputs, write
+from .output import EXIT_FOUND, EXIT_OK, error, note, output_format, outputs, working, write
 
 
 def register(commands: Any, common: list[argparse.ArgumentParser]) -> None:
@@ -74,7 +74,8 @@ def run(args: argparse.Namespace) -> int:
     outputs(args, "output")
     g = read_input(args)
     try:
-        ids, values = node_levels(g, args.on_cycle, args)
+        with working(args, "levels"):
+            ids, values = node_levels(g, args.on_cycle, args)
     except CyclicGraphError as exc:
         error(
             f"{args.file}: has a cycle: {shown_cycle(named(g, exc.cycle))}; levels need a "

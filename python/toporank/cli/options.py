@@ -17,7 +17,7 @@ from .._errors import GraphInputError
 from .._graph import Graph
 from .._report import ON_CYCLE
 from ..io import FILE_FORMATS, ReadOptions, read_graph
-from .output import note
+from .output import note, spill_folder
 
 _POSITION = re.compile(r"[+-]?[0-9]+\Z")
 
@@ -43,8 +43,8 @@ def input_options() -> argparse.ArgumentParser:
         "file",
         metavar="FILE",
         help="edge list (tab/comma/whitespace text, .gz allowed), Matrix Market .mtx, .npz "
-        "(scipy sparse, or src/dst arrays), (m, 2) .npy, or - for stdin; pipes and "
-        "<(...) work too",
+        "(scipy sparse, or src/dst arrays), (m, 2) .npy, Parquet file or dataset folder, a "
+        "folder written by `toporank pack`, or - for stdin; pipes and <(...) work too",
     )
     p.add_argument(
         "--format",
@@ -73,8 +73,8 @@ def input_options() -> argparse.ArgumentParser:
         "--columns",
         metavar="SRC,DST",
         default="0,1",
-        help="source and target columns: 0-based positions or header names (default 0,1; an "
-        "edge runs from source to target, so the source comes first)",
+        help="source and target columns: 0-based positions or header (Parquet column) names "
+        "(default 0,1; an edge runs from source to target, so the source comes first)",
     )
     kind = p.add_mutually_exclusive_group()
     kind.add_argument(
@@ -201,5 +201,10 @@ def read_input(args: argparse.Namespace) -> Graph:
         labels=args.labels,
         progress=not args.quiet and sys.stderr is not None,
         note=lambda message: note(args, message),
+        spill_dir=spill_folder(args),
+        # edges are named by input position only when cut: elsewhere save the memory
+        edge_positions=getattr(args, "on_cycle", None) == "cut"
+        or bool(getattr(args, "cut", False))
+        or args.command == "pack",
     )
     return read_graph(args.file, options)

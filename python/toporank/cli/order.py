@@ -17,7 +17,7 @@ from .._report import order_with_report, plain, shown_cycle
 from ..io import read_key, write_json
 from ..io.write import node_strings, write_lines, write_table
 from .options import check_tie, on_cycle_options, output_options, read_input, tie_arguments
-from .output import EXIT_FOUND, EXIT_OK, error, note, output_format, outputs, write
+from .output import EXIT_FOUND, EXIT_OK, error, note, output_format, outputs, working, write
 
 
 def register(commands: Any, common: list[argparse.ArgumentParser]) -> None:
@@ -49,7 +49,8 @@ def run(args: argparse.Namespace) -> int:
     g = read_input(args)
     key = read_key(args.key, g, progress=not args.quiet) if args.key else None
     read_done = time.perf_counter()
-    ids, report = order_with_report(g, args.on_cycle, **tie_arguments(args, key))
+    with working(args, "ordering"):
+        ids, report = order_with_report(g, args.on_cycle, **tie_arguments(args, key))
     order_done = time.perf_counter()
     kind = output_format(args, "lines")
     if ids is not None:
@@ -121,7 +122,9 @@ def write_order(
         write(args.output, lambda f: np.save(f, array, allow_pickle=False), binary=True)
         return
     if kind == "lines":
-        write(args.output, lambda f: write_lines(f, node_strings(g, ids), progress=progress))
+        # ids (or labels) turned to text chunk by chunk, not a string per node at once
+        nodes = ids if g.labels is None else g.labels[ids]
+        write(args.output, lambda f: write_lines(f, nodes, progress=progress))
         return
     header = ["node", "position"]
     columns: list[Any] = [node_strings(g, ids), np.arange(len(ids))]

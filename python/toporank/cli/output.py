@@ -3,9 +3,11 @@
 from __future__ import annotations
 
 import argparse
+import contextlib
 import os
 import sys
-from collections.abc import Callable
+import threading
+from collections.abc import Callable, Iterator
 from typing import IO, Any
 
 from .._errors import GraphInputError
@@ -81,3 +83,53 @@ def write(path: str | None, fill: Callable[[Any], None], binary: bool = False) -
         return
     with atomic_output(path, binary=binary) as f:
         fill(f)
+
+
+@contextlib.contextmanager
+def working(args: argparse.Namespace, what: str) -> Iterator[None]:
+    """A spinner with the elapsed time on a terminal's standard error while ``what`` runs.
+
+    The compiled core releases the GIL while it works, so a helper thread
+    can redraw; nothing shows for work under a second, with ``-q``, or when
+    standard error is not a terminal.
+    """
+    stream = sys.stderr
+    if getattr(args, "quiet", False) or stream is None or not stream.isatty():
+        yield
+        return
+    from tqdm import tqdm
+
+    done = threading.Event()
+
+    def spin() -> None:
+        with tqdm(
+            desc=what,
+            total=None,
+            delay=1.0,
+            file=stream,
+            leave=False,
+            bar_format="{desc} {elapsed}",
+        ) as bar:
+            while not done.wait(0.2):
+                bar.refresh()
+
+    spinner = threading.Thread(target=spin, name="toporank-spinner", daemon=True)
+    spinner.start()
+    try:
+        yield
+    finally:
+        done.set()
+        spinner.join(1.0)
+
+
+def spill_folder(args: argparse.Namespace) -> str | None:
+    """Where a streamed build spills its edges: beside a regular output file, else ``TMPDIR``."""
+    output = getattr(args, "output", None)
+    if not output:
+        return None
+    path = os.path.abspath(output)
+    with contextlib.suppress(OSError):
+        if os.path.lexists(path) and not os.path.isfile(path) and not os.path.isdir(path):
+            return None  # a FIFO or device: its folder may be /dev
+    parent = os.path.dirname(path)
+    return parent if os.path.isdir(parent) and os.access(parent, os.W_OK | os.X_OK) else None

@@ -10,7 +10,7 @@ import toporank
 from .._errors import InvalidOrderError
 from ..io import read_nodes
 from .options import read_input
-from .output import EXIT_FOUND, EXIT_OK, error, say
+from .output import EXIT_FOUND, EXIT_OK, error, say, working
 
 
 def register(commands: Any, common: list[argparse.ArgumentParser]) -> None:
@@ -35,7 +35,8 @@ def run(args: argparse.Namespace) -> int:
     g = read_input(args)
     nodes = read_nodes(args.order_file, g, progress=not args.quiet)
     try:
-        toporank.verify_order(g, nodes)
+        with working(args, "verifying"):
+            toporank.verify_order(g, nodes)
     except InvalidOrderError as exc:
         error(f"{args.order_file}: is not a topological order of {args.file}: {exc}")
         return EXIT_FOUND

@@ -1,10 +1,11 @@
 """Reading graph files into a :class:`~toporank.Graph`, and writing results.
 
 Layout: :mod:`.options` (``ReadOptions``), :mod:`.text` (delimited text,
-gzip), :mod:`.binary` (``.npy``, ``.npz``, ``.mtx``), :mod:`.nodes` (order
-and key files), :mod:`.write` (atomic files, streams). Every reader yields
-:class:`~.build.EdgeBatch` runs that :func:`~.build.build_graph` turns into
-one Graph, so other readers and builders plug in behind :func:`read_graph`.
+gzip), :mod:`.binary` (``.npy``, ``.npz``, ``.mtx``), :mod:`.parquet`
+(Parquet files and datasets), :mod:`.saved` (saved-graph folders),
+:mod:`.nodes` (order and key files), :mod:`.write` (atomic files, streams).
+Every edge-list reader yields :class:`~.build.EdgeBatch` runs that
+:func:`~.build.build_graph` turns into one Graph in bounded memory.
 """
 
 from __future__ import annotations
@@ -16,11 +17,13 @@ from typing import Any
 
 from .._graph import Graph
 from .binary import read_matrix_market, read_npy, read_npz
-from .build import EdgeBatch, build_graph
+from .build import EdgeBatch, LabelIndex, build_graph
 from .common import GraphFileError, check_path
 from .nodes import read_key, read_nodes
 from .options import DELIMITERS, FILE_FORMATS, ReadOptions, file_format
-from .text import read_text_edges
+from .parquet import ParquetEdges
+from .saved import read_saved, save_graph
+from .text import TextEdges
 from .write import OutputError, atomic_output, check_writable, write_json
 
 __all__ = [
@@ -28,6 +31,7 @@ __all__ = [
     "FILE_FORMATS",
     "EdgeBatch",
     "GraphFileError",
+    "LabelIndex",
     "OutputError",
     "ReadOptions",
     "atomic_output",
@@ -36,6 +40,7 @@ __all__ = [
     "read_graph",
     "read_key",
     "read_nodes",
+    "save_graph",
     "write_json",
 ]
 
@@ -57,7 +62,10 @@ def read_graph(
     ----------
     source
         A path, or ``"-"`` for standard input (delimited text only). Pipes,
-        FIFOs and ``/dev/fd/N`` (process substitution) are read once.
+        FIFOs and ``/dev/fd/N`` (process substitution) are read once. A
+        folder is a saved graph (written by :func:`save_graph` or ``toporank
+        pack``; opened memory-mapped) when it holds ``graph.json``, else a
+        Parquet dataset.
     options
         A :class:`ReadOptions` holding the fields below (and a few more:
         ``comment``, ``note``, line and spool limits); keywords given
@@ -66,9 +74,12 @@ def read_graph(
         ``"text"`` (delimited edge list, one edge per line: source then
         target), ``"mtx"`` (Matrix Market; stored entry ``(i, j)`` is the edge
         ``i -> j``), ``"npz"`` (a scipy sparse matrix saved with
-        ``scipy.sparse.save_npz``) or ``"npy"`` (an integer array of shape
-        ``(m, 2)``). ``None`` picks by the file name's ending (``.mtx``,
-        ``.mm``, ``.npz``, ``.npy``; anything else is text).
+        ``scipy.sparse.save_npz``), ``"npy"`` (an integer array of shape
+        ``(m, 2)``), ``"parquet"`` (a file or a folder of files; two integer
+        or two string columns) or ``"saved"`` (a saved-graph folder).
+        ``None`` picks by the file name's ending (``.mtx``, ``.mm``,
+        ``.npz``, ``.npy``, ``.parquet``, ``.pq``; a folder as above;
+        anything else is text).
     delimiter
         For text: ``"\\t"``, ``","``, ``" "``, or ``None`` to detect tab,
         then comma, else runs of whitespace. The words ``"tab"``,
@@ -80,8 +91,9 @@ def read_graph(
         named in ``columns``, or, in a file of labels, a first line of two
         plain words (letters and ``_``, no digits) that never occur again as nodes.
     columns
-        For text: the source and target columns, as 0-based positions or as
-        header names (names imply ``header=True``). Other columns are ignored.
+        For text and Parquet: the source and target columns, as 0-based
+        positions or as header (column) names (names imply ``header=True``
+        for text). Other columns are ignored.
     labels
         For text: ``True`` reads node fields as string labels, interned to
         ids in first-seen order (row by row, source before target, as
@@ -106,6 +118,12 @@ def read_graph(
 
     Notes
     -----
+    Text, ``.npy`` and Parquet edge lists are read in batches and grouped
+    into CSR in bounded memory: the CSR itself (4 bytes per edge while ids
+    and the edge count fit int32) plus about 16 bytes per node and one batch;
+    the batches wait in a temporary spill file (``ReadOptions.spill_dir``).
+    Rows keep the input order of their edges.
+
     Lines starting with ``#`` are comments and blank lines are skipped.
     Comma-separated fields may be quoted (``"a,b"``); tab-separated ones are
     taken literally.
@@ -138,6 +156,16 @@ def read_graph(
     kind = file_format(name, options.format)
     if kind != "text" and name == "-":
         raise GraphFileError("<stdin>", f"standard input can only carry delimited text, not {kind}")
+    if kind == "saved":
+        if not os.path.isdir(name):
+            check_path(name)
+            raise GraphFileError(name, "is a file; a saved graph is a folder")
+        return read_saved(name)
+    if kind == "parquet":
+        if not os.path.isdir(name):
+            check_path(name)
+        parquet = ParquetEdges(name, options)
+        return _built(parquet, parquet, options)
     if kind != "text":
         check_path(name)
     if kind == "mtx":
@@ -145,6 +173,17 @@ def read_graph(
     if kind == "npz":
         return read_npz(name)
     if kind == "npy":
-        return read_npy(name)
-    batches, names = read_text_edges(name, options)
-    return build_graph(batches, labels=names)
+        return read_npy(name, options)
+    text = TextEdges(name, options)
+    return _built(text, text, options)
+
+
+def _built(batches: Any, labels: Any, options: ReadOptions) -> Graph:
+    return build_graph(
+        iter(batches),
+        labels=labels,
+        spill_dir=options.spill_dir,
+        spill_limit_bytes=options.spool_limit_bytes,
+        progress=options.progress,
+        edge_positions=options.edge_positions,
+    )

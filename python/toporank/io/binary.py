@@ -5,13 +5,17 @@ from __future__ import annotations
 import os
 import re
 import zipfile
+from collections.abc import Iterator
+from typing import Any
 
 import numpy as np
 
 from .._errors import GraphInputError
 from .._graph import Graph
-from .build import EdgeBatch, build_graph
+from .build import BATCH_EDGES, EdgeBatch, build_graph
 from .common import GraphFileError, check_memory, check_path
+from .options import ReadOptions
+from .write import _bar
 
 __all__ = ["read_matrix_market", "read_npy", "read_npz"]
 
@@ -158,16 +162,21 @@ def _read_edge_arrays(path: str, archive: zipfile.ZipFile) -> Graph:
         raise GraphFileError(path, _row_words(str(exc), ("src", "dst"))) from None
 
 
-def read_npy(path: str) -> Graph:
-    """A graph from an integer ``.npy`` array of shape ``(m, 2)``: one edge per row."""
+def read_npy(path: str, options: ReadOptions | None = None) -> Graph:
+    """A graph from an integer ``.npy`` array of shape ``(m, 2)``: one edge per row.
+
+    The rows are read in batches straight from the file (never loaded or
+    mapped whole) and grouped into CSR in bounded memory.
+    """
+    options = options or ReadOptions()
     check_path(path)
     try:
         with open(path, "rb") as f:
             version = np.lib.format.read_magic(f)
             if version == (1, 0):
-                shape, _, dtype = np.lib.format.read_array_header_1_0(f)
+                shape, fortran, dtype = np.lib.format.read_array_header_1_0(f)
             else:
-                shape, _, dtype = np.lib.format.read_array_header_2_0(f)
+                shape, fortran, dtype = np.lib.format.read_array_header_2_0(f)
             offset = f.tell()
     except (ValueError, OSError) as exc:
         raise GraphFileError(path, f"is not a readable .npy file ({exc})") from None
@@ -184,10 +193,41 @@ def read_npy(path: str) -> Graph:
             path,
             f"the header claims shape {shape} ({claimed} bytes) but the file holds {actual} bytes",
         )
-    check_memory(path, claimed * 3, f"shape {shape}")
-    edges = np.load(path, mmap_mode="r")
+    m = int(shape[0])
+    # the CSR: indices and, for input not grouped by source, input positions
+    check_memory(path, m * 8, f"shape {shape}")
     try:
-        batch = EdgeBatch(np.ascontiguousarray(edges[:, 0]), np.ascontiguousarray(edges[:, 1]))
-        return build_graph([batch])
+        return build_graph(
+            _npy_batches(path, offset, m, dtype, fortran, options.progress),
+            spill_dir=options.spill_dir,
+            spill_limit_bytes=options.spool_limit_bytes,
+            progress=options.progress,
+            edge_positions=options.edge_positions,
+        )
     except GraphInputError as exc:
         raise GraphFileError(path, _row_words(str(exc))) from None
+
+
+def _npy_batches(
+    path: str, offset: int, m: int, dtype: np.dtype[Any], fortran: bool, progress: bool
+) -> Iterator[EdgeBatch]:
+    """Row batches of an ``(m, 2)`` array stored at ``offset`` of ``path``."""
+    size = dtype.itemsize
+    with open(path, "rb") as f, _bar(m, "reading", path, progress, unit="edges") as bar:
+        for start in range(0, m, BATCH_EDGES):
+            count = min(BATCH_EDGES, m - start)
+            if fortran:
+                f.seek(offset + start * size)
+                src = np.fromfile(f, dtype=dtype, count=count)
+                f.seek(offset + (m + start) * size)
+                dst = np.fromfile(f, dtype=dtype, count=count)
+            else:
+                f.seek(offset + 2 * start * size)
+                pairs = np.fromfile(f, dtype=dtype, count=2 * count).reshape(-1, 2)
+                src, dst = pairs[:, 0], pairs[:, 1]
+            if len(src) != count or len(dst) != count:
+                raise GraphFileError(path, "ended while being read (truncated or changed)")
+            if not dtype.isnative:
+                src, dst = src.astype(dtype.newbyteorder("=")), dst.astype(dtype.newbyteorder("="))
+            yield EdgeBatch(np.ascontiguousarray(src), np.ascontiguousarray(dst))
+            bar.update(count)

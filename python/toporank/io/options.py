@@ -10,7 +10,9 @@ from .._errors import GraphInputError
 
 __all__ = ["DELIMITERS", "FILE_FORMATS", "ReadOptions", "file_format"]
 
-FILE_FORMATS = ("text", "mtx", "npz", "npy")
+FILE_FORMATS = ("text", "mtx", "npz", "npy", "parquet", "saved")
+#: the description file that marks a saved graph folder
+SAVED_DESCRIPTION = "graph.json"
 DELIMITERS = {"tab": "\t", "\\t": "\t", "comma": ",", "space": " ", "whitespace": None}
 
 #: longest line a text reader accepts (bytes); longer lines are refused, naming the line
@@ -38,14 +40,16 @@ class ReadOptions:
 
     Attributes
     ----------
-    format : {"text", "mtx", "npz", "npy"} or None
-        None picks by the file name's ending.
+    format : {"text", "mtx", "npz", "npy", "parquet", "saved"} or None
+        None picks by the file name's ending; a folder is a saved graph
+        when it holds ``graph.json``, else a Parquet dataset.
     delimiter : str or None
         Text only: one character, a word of ``DELIMITERS``, or None to detect.
     header : bool or None
         Text only: the first line names the columns; None detects.
     columns : sequence of int or str
-        Text only: source and target columns (0-based positions or header names).
+        Text and Parquet: source and target columns (0-based positions, or
+        header or column names).
     labels : bool or None
         Text only: nodes are string labels (True), integer ids (False), or detect (None).
     comment : str
@@ -59,7 +63,18 @@ class ReadOptions:
         Longest line accepted (``TOPORANK_MAX_LINE_BYTES``, default 1 MiB).
     spool_limit_bytes : int
         Most bytes copied from a pipe or device for a second pass
-        (``TOPORANK_SPOOL_LIMIT``, default 64 GiB).
+        (``TOPORANK_SPOOL_LIMIT``, default 64 GiB), and most bytes of
+        edges spilled to a temporary file while a graph is built.
+    edge_positions : bool
+        Keep the input position of every stored edge when the input is not
+        grouped by source (4 bytes per edge while the edge count fits int32),
+        so that edges can be named by input position
+        (:meth:`Graph.edge_input_positions`: cut edges, per-edge weights
+        given in input order). False saves that memory; such a graph
+        refuses to name edges by input position.
+    spill_dir : str or None
+        Folder for the temporary edge spill of a streamed build (default:
+        the system's temporary folder, ``TMPDIR``).
 
     Examples
     --------
@@ -86,6 +101,8 @@ class ReadOptions:
     spool_limit_bytes: int = field(
         default_factory=lambda: _env_bytes("TOPORANK_SPOOL_LIMIT", SPOOL_LIMIT_BYTES)
     )
+    spill_dir: str | None = None
+    edge_positions: bool = True
 
 
 def file_format(name: str, format: str | None) -> str:
@@ -95,10 +112,14 @@ def file_format(name: str, format: str | None) -> str:
             raise GraphInputError(f"format must be one of {FILE_FORMATS}, got {format!r}")
         return format
     lower = name.lower().removesuffix(".gz")
+    if lower.endswith((".parquet", ".pq")):
+        return "parquet"
     if lower.endswith((".mtx", ".mm")):
         return "mtx"
     if lower.endswith(".npz"):
         return "npz"
     if lower.endswith(".npy"):
         return "npy"
+    if os.path.isdir(name):
+        return "saved" if os.path.exists(os.path.join(name, SAVED_DESCRIPTION)) else "parquet"
     return "text"

@@ -13,21 +13,24 @@ import csv
 import os
 import re
 import threading
-from collections.abc import Callable, Sequence
+from collections.abc import Callable, Iterator, Sequence
 from dataclasses import dataclass
 from typing import Any
 
 import numpy as np
 
 from .._errors import GraphInputError
-from .build import EdgeBatch
+from .build import BATCH_EDGES, EdgeBatch, LabelIndex
 from .common import GraphFileError, local_copy, read_lines
 from .options import DELIMITERS, ReadOptions
 from .write import _bar, _bar_shown
 
-__all__ = ["Table", "read_text_columns", "read_text_edges"]
+__all__ = ["Table", "TextEdges", "read_text_columns"]
 
 _SNIFF_LINES = 200
+_BLOCK_BYTES = (
+    1 << 20
+)  # text per streamed block (~70k edges); larger blocks raise the peak, not the speed
 _HEADER_LINES = 2000  # lines searched for a labelled header's words reappearing as nodes
 _INTEGER = re.compile(r"[+-]?[0-9]+\Z")
 _WORD = re.compile(r"[A-Za-z_][A-Za-z_ ]*\Z")  # no digits: "n17" is more likely a node
@@ -54,17 +57,49 @@ class Table:
     first_line: int
 
 
-def read_text_edges(name: str, options: ReadOptions) -> tuple[list[EdgeBatch], np.ndarray | None]:
-    """Edge batches of a delimited text file, and the interned labels (None for integer ids)."""
-    with local_copy(name, options) as (path, shown):
-        table = read_text_columns(path, shown, options, ("node", "node"))
-    src, dst = table.values
-    if table.kinds[0] != table.kinds[1]:
-        raise GraphInputError("source and target columns must both be ids or both be labels")
-    if table.kinds[0] == "id":
-        return [EdgeBatch(src, dst)], None
-    src_ids, dst_ids, labels = _intern(src, dst)
-    return [EdgeBatch(src_ids, dst_ids)], labels
+class TextEdges:
+    """The edges of a delimited text file as an iterator of batches, read once, in bounded memory.
+
+    Iterating opens the file (spooling a pipe or FIFO first), detects its
+    layout and yields :class:`EdgeBatch` runs of about ``BATCH_EDGES`` edges
+    through pyarrow's streaming CSV reader; when that reader meets something
+    it does not take, the rest of the file is read line by line, which names
+    a bad line. Labelled files are interned batch by batch into one
+    :class:`LabelIndex`; :meth:`labels` gives the names once the batches are spent.
+    """
+
+    def __init__(self, name: str, options: ReadOptions) -> None:
+        self.name = name
+        self.options = options
+        self.index: LabelIndex | None = None
+
+    def labels(self) -> np.ndarray | None:
+        """Node names (labelled files), or None for integer ids."""
+        return None if self.index is None else self.index.labels()
+
+    def __iter__(self) -> Iterator[EdgeBatch]:
+        with local_copy(self.name, self.options) as (path, shown):
+            layout = _sniff(path, shown, self.options, ("node", "node"))
+            if layout.kinds[0] != layout.kinds[1]:
+                raise GraphInputError(
+                    "source and target columns must both be ids or both be labels"
+                )
+            if layout.kinds[0] == "label":
+                self.index = LabelIndex()
+            done = 0
+            try:
+                for src, dst in _fast_batches(path, layout, self.options.progress):
+                    batch = self._batch(src, dst)
+                    done += len(batch.src)
+                    yield batch
+            except _NeedsCarefulRead:
+                for src, dst in _careful_batches(path, shown, layout, self.options, done):
+                    yield self._batch(src, dst)
+
+    def _batch(self, src: Any, dst: Any) -> EdgeBatch:
+        if self.index is not None:
+            return self.index.intern(src, dst)
+        return EdgeBatch(src, dst)
 
 
 def _split(line: str, delimiter: str | None) -> list[str]:
@@ -411,6 +446,124 @@ def _skip_comment_rows(row: Any) -> str:
     return "skip" if row.text.lstrip().startswith("#") else "error"
 
 
+def _fast_batches(path: str, layout: _Layout, progress: bool) -> Iterator[tuple[Any, Any]]:
+    """Source and target columns of a local text file, block by block (pyarrow's streaming reader).
+
+    Ids come as int64 numpy arrays, labels as pyarrow string arrays. Raises
+    :class:`_NeedsCarefulRead` at a block pyarrow cannot take or that holds
+    what the careful path must judge (negative ids, empty labels).
+    """
+    import pyarrow as pa
+    import pyarrow.compute as pc
+    import pyarrow.csv as pacsv
+
+    if layout.width <= max(layout.columns):
+        raise _NeedsCarefulRead
+    names = [f"f{c}" for c in layout.columns]
+    types = {"id": pa.int64(), "label": pa.string()}
+    options = (
+        pacsv.ReadOptions(
+            skip_rows=layout.skip, autogenerate_column_names=True, block_size=_BLOCK_BYTES
+        ),
+        pacsv.ParseOptions(
+            delimiter=layout.delimiter or " ",
+            quote_char='"' if layout.delimiter == "," else False,
+            invalid_row_handler=_skip_comment_rows,
+        ),
+        pacsv.ConvertOptions(
+            include_columns=names,
+            column_types={n: types[k] for n, k in zip(names, layout.kinds, strict=True)},
+            strings_can_be_null=False,
+            quoted_strings_can_be_null=False,
+        ),
+    )
+    # the uncompressed size of a .gz is unknown: count bytes without a total
+    total = None if path.endswith(".gz") else os.path.getsize(path)
+    failures = (pa.ArrowInvalid, pa.ArrowNotImplementedError, OSError)
+    with (
+        pa.input_stream(path, compression="detect") as stream,
+        _bar(total, "reading", path, progress) as bar,
+    ):
+        try:
+            reader = pacsv.open_csv(stream, *options)
+        except failures:
+            raise _NeedsCarefulRead from None
+        rows = 0
+        while True:
+            try:
+                batch = reader.read_next_batch()
+            except StopIteration:
+                break
+            except failures:
+                raise _NeedsCarefulRead from None
+            columns = []
+            for kind, name in zip(layout.kinds, names, strict=True):
+                column = batch.column(name)
+                if column.null_count:
+                    raise _NeedsCarefulRead
+                if kind == "label":
+                    if len(column) and pc.min(pc.utf8_length(column)).as_py() == 0:
+                        raise _NeedsCarefulRead
+                    columns.append(column)
+                    continue
+                values = column.to_numpy()
+                if len(values) and int(values.min()) < 0:
+                    raise _NeedsCarefulRead
+                columns.append(values)
+            rows += batch.num_rows
+            done = int(rows * layout.line_bytes)
+            bar.update((done if total is None else min(done, total)) - bar.n)
+            yield columns[0], columns[1]
+
+
+def _careful_batches(
+    path: str, shown: str, layout: _Layout, options: ReadOptions, skip: int
+) -> Iterator[tuple[Any, Any]]:
+    """Line-by-line batches past the first ``skip`` data lines; names the first bad line."""
+    import pyarrow as pa
+
+    needed = max(layout.columns)
+    skipped_line = _skipper(options.comment)
+    ragged, first_ragged = 0, 0
+    collected: list[list[Any]] = [[] for _ in layout.columns]
+    data = 0
+
+    def flush() -> tuple[Any, Any]:
+        values = [
+            pa.array(items, type=pa.string())
+            if kind == "label"
+            else np.asarray(items, dtype=np.int64)
+            for kind, items in zip(layout.kinds, collected, strict=True)
+        ]
+        for items in collected:
+            items.clear()
+        return values[0], values[1]
+
+    for number, line in read_lines(path, shown, options):
+        if number < layout.first_line or skipped_line(line):
+            continue
+        data += 1
+        if data <= skip:
+            continue
+        fields = _split(line, layout.delimiter)
+        if len(fields) <= needed:
+            raise _missing_column(shown, number, line, fields, needed)
+        if len(fields) != layout.width:
+            ragged += 1
+            first_ragged = first_ragged or number
+        for k, (column, kind) in enumerate(zip(layout.columns, layout.kinds, strict=True)):
+            collected[k].append(_field(shown, number, line, fields[column], kind, options))
+        if len(collected[0]) >= BATCH_EDGES:
+            yield flush()
+    if collected[0]:
+        yield flush()
+    if ragged and options.note is not None:
+        options.note(
+            f"{shown}:{first_ragged}: {ragged} line(s) have a different number of fields than "
+            f"line {layout.first_line} ({layout.width}); only the chosen columns are read"
+        )
+
+
 def _read_careful(path: str, shown: str, layout: _Layout, options: ReadOptions) -> list[Any]:
     """Line-by-line read with the standard library; names the first bad line."""
     import pyarrow as pa
@@ -472,30 +625,3 @@ def _field(path: str, number: int, line: str, text: str, kind: str, options: Rea
     if np.isnan(number_value):
         raise GraphFileError(path, "NaN is not a usable key value", number, line)
     return number_value
-
-
-def _intern(src: Any, dst: Any) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
-    """Ids of string labels numbered in first-seen order, row by row, source before target."""
-    import pyarrow as pa
-    import pyarrow.compute as pc
-
-    m = len(src)
-    if src.type != dst.type:
-        src, dst = src.cast(pa.large_string()), dst.cast(pa.large_string())
-    # One hash pass over both columns gives a shared dictionary numbered by
-    # first appearance in "all sources, then all targets"; renumber it to
-    # the row-by-row order (source, target, source, ...) of Graph.from_pairs.
-    encoded = pc.dictionary_encode(pa.chunked_array([src, dst]))
-    src_codes = encoded.chunk(0).indices.to_numpy()
-    dst_codes = encoded.chunk(1).indices.to_numpy()
-    dictionary = encoded.chunk(1).dictionary
-    count = len(dictionary)
-    first_seen = np.full(count, 2 * m, dtype=np.int64)
-    np.minimum.at(first_seen, src_codes, np.arange(0, 2 * m, 2, dtype=np.int64))
-    np.minimum.at(first_seen, dst_codes, np.arange(1, 2 * m, 2, dtype=np.int64))
-    old_of_new = np.argsort(first_seen, kind="stable")
-    width = np.int32 if count <= np.iinfo(np.int32).max else np.int64
-    new_of_old = np.empty(count, dtype=width)
-    new_of_old[old_of_new] = np.arange(count, dtype=width)
-    labels = dictionary.take(pa.array(old_of_new)).to_numpy(zero_copy_only=False)
-    return new_of_old[src_codes], new_of_old[dst_codes], labels.astype(object, copy=False)

@@ -189,7 +189,7 @@ def node_strings(graph: Graph, ids: np.ndarray) -> list[str]:
 
 def write_lines(f: IO[str], items: Any, *, progress: bool = False, what: str = "output") -> None:
     """Write ``items`` one per line, in chunks, with a progress bar for long writes."""
-    chunk = 1 << 20
+    chunk = 1 << 16  # lines turned to text at a time: a few MiB, whatever the order's length
     with _bar(len(items), "writing", what, progress, unit="lines") as bar:
         for start in range(0, len(items), chunk):
             part = items[start : start + chunk]
@@ -211,7 +211,7 @@ def write_table(
     writer = csv.writer(f, lineterminator="\n")
     writer.writerow(header)
     total = len(columns[0]) if columns else 0
-    chunk = 1 << 18
+    chunk = 1 << 16
     with _bar(total, "writing", what, progress, unit="rows") as bar:
         for start in range(0, total, chunk):
             parts = [

@@ -12,6 +12,7 @@
 #![deny(clippy::undocumented_unsafe_blocks)]
 
 pub mod alloc;
+pub mod build;
 pub mod condense;
 pub mod critical;
 pub mod csr;
@@ -21,6 +22,7 @@ pub mod edges;
 pub mod error;
 pub mod heap;
 pub mod index;
+pub mod intern;
 pub mod interrupt;
 pub mod kahn;
 pub mod levels;

@@ -11,6 +11,7 @@
 
 use pyo3::prelude::*;
 
+mod build;
 mod common;
 mod cycles;
 mod dynamic;
@@ -32,5 +33,6 @@ fn _core(m: &Bound<'_, PyModule>) -> PyResult<()> {
     cycles::register(m)?;
     peel::register(m)?;
     dynamic::register(m)?;
+    build::register(m)?;
     Ok(())
 }
