@@ -24,6 +24,7 @@ pub mod index;
 pub mod interrupt;
 pub mod kahn;
 pub mod levels;
+pub mod mainpath;
 pub mod metrics;
 pub mod paths;
 pub mod peel;

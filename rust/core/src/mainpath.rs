@@ -1,0 +1,594 @@
+//! Main path analysis on a DAG: the global, local (forward, backward) and
+//! key-route main paths over per-edge traversal weights.
+//!
+//! Every method is a few linear passes along one topological order: the
+//! heaviest path to a sink (`best_to`, backward), from a source
+//! (`best_from`, forward), the heaviest edge into each node, and a walk or a
+//! spread along the chosen edges. Ties go to the lowest stored edge index
+//! (the lowest node id among tied starting sources); with `all_ties` every
+//! tied edge is followed and the union is returned.
+
+use crate::interrupt::Ticker;
+use crate::paths::{path_counts_of, Kind};
+use crate::sweep::{Acyclic, LevelOrder};
+use crate::{alloc, levels, Csr, Error, Idx};
+
+/// How the main path is chosen.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Method {
+    /// The source-to-sink path of largest total weight.
+    Global,
+    /// From the heaviest edge out of a source, the heaviest edge at each step.
+    Forward,
+    /// From the heaviest edge into a sink, the heaviest edge in at each step.
+    Backward,
+    /// The `routes` heaviest edges, each extended both ways, locally or
+    /// globally (the heaviest path to a sink and from a source).
+    KeyRoute { routes: usize, global: bool },
+}
+
+/// Where the per-edge weights come from.
+#[derive(Debug, Clone, Copy)]
+pub enum EdgeWeight<'a> {
+    /// A traversal weight computed here (the float counts; their natural
+    /// logarithms when the float total overflows).
+    Count(Kind),
+    /// The caller's weights, per stored edge (finite, checked here).
+    Each(&'a [f64]),
+}
+
+/// A main path, or the union of several.
+#[derive(Debug, Clone, PartialEq)]
+pub struct MainPath {
+    /// Stored edge indices of the main path (union), ascending.
+    pub edges: Vec<usize>,
+    /// For a single path: its nodes, source first; `None` for a union.
+    pub path: Option<Vec<usize>>,
+    /// The weight of each edge of `edges`.
+    pub edge_weight: Vec<f64>,
+    /// The weights were logarithms of counts (float counts overflowed).
+    pub log_weights: bool,
+}
+
+/// The per-edge tools every method shares.
+struct Graph<'c, 'a, I: Idx> {
+    csr: &'c Csr<'a, I>,
+    order: &'c [I],
+    w: &'c [f64],
+}
+
+impl<I: Idx> Graph<'_, '_, I> {
+    fn head(&self, e: usize) -> Result<usize, Error> {
+        let v = self.csr.indices().get(e).ok_or(Error::InputChanged { what: "indices" })?;
+        let v = v.to_usize();
+        if v >= self.csr.n() {
+            return Err(Error::InputChanged { what: "indices" });
+        }
+        Ok(v)
+    }
+
+    fn weight(&self, e: usize) -> Result<f64, Error> {
+        self.w.get(e).copied().ok_or(Error::InputChanged { what: "indices" })
+    }
+
+    /// The row of `u` as a stored edge range.
+    fn edges(&self, u: usize) -> Result<std::ops::Range<usize>, Error> {
+        let (start, row) = self.csr.checked_row_at(u)?;
+        Ok(start..start + row.len())
+    }
+
+    fn nodes(&self) -> impl DoubleEndedIterator<Item = usize> + '_ {
+        self.order.iter().map(|u| u.to_usize())
+    }
+
+    /// Per node: the heaviest weight of a path to a sink and its first edge
+    /// (`usize::MAX` at sinks).
+    fn best_to(&self) -> Result<(Vec<f64>, Vec<usize>), Error> {
+        let n = self.csr.n();
+        let mut best = alloc::filled("heaviest paths to sinks", n, 0.0f64)?;
+        let mut arg = alloc::filled("heaviest first edges", n, usize::MAX)?;
+        let mut ticker = Ticker::new();
+        for u in self.nodes().rev() {
+            let edges = self.edges(u)?;
+            ticker.tick_by(edges.len() + 1)?;
+            let (mut top, mut pick) = (f64::NEG_INFINITY, usize::MAX);
+            for e in edges {
+                let v = self.head(e)?;
+                let through = self.weight(e)? + best[v];
+                if through > top {
+                    (top, pick) = (through, e);
+                }
+            }
+            if pick != usize::MAX {
+                (best[u], arg[u]) = (top, pick);
+            }
+        }
+        Ok((best, arg))
+    }
+
+    /// Per node: the heaviest weight of a path from a source and its last
+    /// edge (`usize::MAX` at sources), with each edge's tail in `tail`.
+    fn best_from(&self) -> Result<(Vec<f64>, Vec<usize>, Vec<usize>), Error> {
+        let n = self.csr.n();
+        let mut best = alloc::filled("heaviest paths from sources", n, f64::NEG_INFINITY)?;
+        let mut arg = alloc::filled("heaviest last edges", n, usize::MAX)?;
+        let mut tail = alloc::filled("edge tails", n, usize::MAX)?;
+        let mut ticker = Ticker::new();
+        for u in self.nodes() {
+            let edges = self.edges(u)?;
+            ticker.tick_by(edges.len() + 1)?;
+            if best[u] == f64::NEG_INFINITY {
+                best[u] = 0.0;
+            }
+            let here = best[u];
+            for e in edges {
+                let v = self.head(e)?;
+                let through = here + self.weight(e)?;
+                if through > best[v] {
+                    (best[v], arg[v], tail[v]) = (through, e, u);
+                }
+            }
+        }
+        Ok((best, arg, tail))
+    }
+
+    /// Per node: the heaviest edge weight into it, that edge and its tail.
+    fn heaviest_in(&self) -> Result<(Vec<f64>, Vec<usize>, Vec<usize>), Error> {
+        let n = self.csr.n();
+        let mut top = alloc::filled("heaviest edges in", n, f64::NEG_INFINITY)?;
+        let mut arg = alloc::filled("heaviest edges in", n, usize::MAX)?;
+        let mut tail = alloc::filled("edge tails", n, usize::MAX)?;
+        let mut ticker = Ticker::new();
+        for u in self.nodes() {
+            let edges = self.edges(u)?;
+            ticker.tick_by(edges.len() + 1)?;
+            for e in edges {
+                let (v, x) = (self.head(e)?, self.weight(e)?);
+                if x > top[v] {
+                    (top[v], arg[v], tail[v]) = (x, e, u);
+                }
+            }
+        }
+        Ok((top, arg, tail))
+    }
+
+    /// The heaviest edge of `u`'s row (lowest index on ties), and its weight.
+    fn heaviest_out(&self, u: usize) -> Result<Option<(usize, f64)>, Error> {
+        let mut found: Option<(usize, f64)> = None;
+        for e in self.edges(u)? {
+            let x = self.weight(e)?;
+            if found.is_none_or(|(_, top)| x > top) {
+                found = Some((e, x));
+            }
+        }
+        Ok(found)
+    }
+
+    /// Follow `tight` edges forward from every `reached` node, in order.
+    fn spread_forward(
+        &self,
+        reached: &mut [bool],
+        keep: &mut [bool],
+        tight: impl Fn(usize, usize, usize) -> Result<bool, Error>,
+    ) -> Result<(), Error> {
+        let mut ticker = Ticker::new();
+        for u in self.nodes() {
+            ticker.tick()?;
+            if !reached[u] {
+                continue;
+            }
+            for e in self.edges(u)? {
+                let v = self.head(e)?;
+                if tight(u, e, v)? {
+                    keep[e] = true;
+                    reached[v] = true;
+                }
+            }
+        }
+        Ok(())
+    }
+
+    /// Follow `tight` edges backward into every `reached` node, in reverse order.
+    fn spread_backward(
+        &self,
+        reached: &mut [bool],
+        keep: &mut [bool],
+        tight: impl Fn(usize, usize, usize) -> Result<bool, Error>,
+    ) -> Result<(), Error> {
+        let mut ticker = Ticker::new();
+        for u in self.nodes().rev() {
+            let edges = self.edges(u)?;
+            ticker.tick_by(edges.len() + 1)?;
+            for e in edges {
+                let v = self.head(e)?;
+                if reached[v] && tight(u, e, v)? {
+                    keep[e] = true;
+                    reached[u] = true;
+                }
+            }
+        }
+        Ok(())
+    }
+}
+
+/// A path walked edge by edge: `next(u)` gives the chosen edge and the node
+/// it leads to, or `None` at the end.
+fn walk(
+    start: usize,
+    keep: &mut [bool],
+    nodes: &mut Vec<usize>,
+    n: usize,
+    mut next: impl FnMut(usize) -> Result<Option<(usize, usize)>, Error>,
+) -> Result<(), Error> {
+    let mut u = start;
+    nodes.push(u);
+    // A DAG path has fewer than n edges; more means the input changed.
+    for _ in 0..n {
+        match next(u)? {
+            None => return Ok(()),
+            Some((e, v)) => {
+                keep[e] = true;
+                nodes.push(v);
+                u = v;
+            }
+        }
+    }
+    Err(Error::InputChanged { what: "indices" })
+}
+
+/// The `k` heaviest edges (lowest index first on ties), heaviest first.
+fn heaviest_edges(w: &[f64], k: usize) -> Result<Vec<usize>, Error> {
+    let mut all = alloc::with_capacity("edge ranking", w.len())?;
+    all.extend(0..w.len());
+    let rank = |a: &usize, b: &usize| w[*b].total_cmp(&w[*a]).then(a.cmp(b));
+    if k < all.len() && k > 0 {
+        all.select_nth_unstable_by(k - 1, rank);
+        all.truncate(k);
+    }
+    all.truncate(k);
+    all.sort_unstable_by(rank);
+    Ok(all)
+}
+
+/// The main path of `csr` under `weight` and `method`; `all_ties` follows
+/// every tied edge and returns the union.
+pub fn main_path<I: Idx>(
+    csr: &Csr<'_, I>,
+    weight: EdgeWeight<'_>,
+    method: Method,
+    all_ties: bool,
+    threads: usize,
+) -> Result<Acyclic<MainPath, I>, Error> {
+    let (owned, order, log_weights) = match weight {
+        EdgeWeight::Count(kind) => match path_counts_of(csr, threads, kind)? {
+            Err(cyclic) => return Ok(Err(cyclic)),
+            Ok((counts, order)) => match counts.log {
+                Some(log) => (Some(log.through_edge), order, true),
+                None => (Some(counts.through_edge), order, false),
+            },
+        },
+        EdgeWeight::Each(w) => {
+            if w.len() != csr.m() {
+                return Err(Error::LengthMismatch {
+                    what: "edge weights",
+                    expected: csr.m(),
+                    got: w.len(),
+                });
+            }
+            if let Some(position) = w.iter().position(|x| !x.is_finite()) {
+                return Err(Error::BadWeight {
+                    what: "edge weight",
+                    position,
+                    value: w[position].to_string(),
+                });
+            }
+            match levels::level_order(csr, threads)? {
+                Err(cyclic) => return Ok(Err(cyclic)),
+                Ok(order) => (None, order, false),
+            }
+        }
+    };
+    let w: &[f64] = match (&owned, weight) {
+        (Some(owned), _) => owned,
+        (None, EdgeWeight::Each(w)) => w,
+        (None, EdgeWeight::Count(_)) => {
+            return Err(Error::Internal { reason: "main path weights went missing".into() })
+        }
+    };
+    let found = extract(csr, &order, w, method, all_ties)?;
+    let (edges, path) = found;
+    let edge_weight = edges.iter().map(|&e| w[e]).collect();
+    Ok(Ok(MainPath { edges, path, edge_weight, log_weights }))
+}
+
+/// The chosen edges (ascending) and, for a single path, its nodes.
+#[allow(clippy::type_complexity)]
+fn extract<I: Idx>(
+    csr: &Csr<'_, I>,
+    order: &LevelOrder<I>,
+    w: &[f64],
+    method: Method,
+    all_ties: bool,
+) -> Result<(Vec<usize>, Option<Vec<usize>>), Error> {
+    let (n, m) = (csr.n(), csr.m());
+    let g = Graph { csr, order: &order.order, w };
+    let mut keep = alloc::filled("main path edges", m, false)?;
+    let mut path = None;
+    match method {
+        Method::Global => {
+            let (best, arg) = g.best_to()?;
+            // Sources with an edge out; the heaviest, lowest id on ties.
+            let (top, _, _) = g.heaviest_in()?;
+            let mut starts = Vec::new();
+            let mut start_weight = f64::NEG_INFINITY;
+            for u in 0..n {
+                if top[u] == f64::NEG_INFINITY && !g.edges(u)?.is_empty() {
+                    if best[u] > start_weight {
+                        starts.clear();
+                        start_weight = best[u];
+                    }
+                    if best[u] == start_weight {
+                        starts.push(u);
+                    }
+                }
+            }
+            if all_ties {
+                let mut reached = alloc::filled("main path nodes", n, false)?;
+                for &s in &starts {
+                    reached[s] = true;
+                }
+                g.spread_forward(&mut reached, &mut keep, |u, e, v| {
+                    Ok(arg[u] != usize::MAX && g.weight(e)? + best[v] == best[u])
+                })?;
+            } else if let Some(&s) = starts.first() {
+                let mut nodes = Vec::new();
+                walk(s, &mut keep, &mut nodes, n, |u| {
+                    Ok(match arg.get(u).copied() {
+                        Some(e) if e != usize::MAX => Some((e, g.head(e)?)),
+                        _ => None,
+                    })
+                })?;
+                path = Some(nodes);
+            } else {
+                path = Some(Vec::new());
+            }
+        }
+        Method::Forward => {
+            let (top, _, _) = g.heaviest_in()?;
+            // The heaviest edges out of sources.
+            let mut seeds = Vec::new();
+            let mut seed_weight = f64::NEG_INFINITY;
+            for u in 0..n {
+                if top[u] != f64::NEG_INFINITY {
+                    continue;
+                }
+                for e in g.edges(u)? {
+                    let x = g.weight(e)?;
+                    if x > seed_weight {
+                        seeds.clear();
+                        seed_weight = x;
+                    }
+                    if x == seed_weight {
+                        seeds.push((u, e));
+                    }
+                }
+            }
+            if all_ties {
+                let mut reached = alloc::filled("main path nodes", n, false)?;
+                for &(_, e) in &seeds {
+                    keep[e] = true;
+                    reached[g.head(e)?] = true;
+                }
+                g.spread_forward(&mut reached, &mut keep, |u, e, _| {
+                    Ok(g.heaviest_out(u)?.is_some_and(|(_, x)| g.w[e] == x))
+                })?;
+            } else if let Some(&(s, e)) = seeds.first() {
+                let mut nodes = vec![s];
+                keep[e] = true;
+                walk(g.head(e)?, &mut keep, &mut nodes, n, |u| {
+                    Ok(match g.heaviest_out(u)? {
+                        Some((e, _)) => Some((e, g.head(e)?)),
+                        None => None,
+                    })
+                })?;
+                path = Some(nodes);
+            } else {
+                path = Some(Vec::new());
+            }
+        }
+        Method::Backward => {
+            let (top, arg, tail) = g.heaviest_in()?;
+            // The heaviest edges into sinks.
+            let mut seeds = Vec::new();
+            let mut seed_weight = f64::NEG_INFINITY;
+            for u in 0..n {
+                for e in g.edges(u)? {
+                    let v = g.head(e)?;
+                    if !g.edges(v)?.is_empty() {
+                        continue;
+                    }
+                    let x = g.weight(e)?;
+                    if x > seed_weight {
+                        seeds.clear();
+                        seed_weight = x;
+                    }
+                    if x == seed_weight {
+                        seeds.push((u, e, v));
+                    }
+                }
+            }
+            if all_ties {
+                let mut reached = alloc::filled("main path nodes", n, false)?;
+                for &(u, e, _) in &seeds {
+                    keep[e] = true;
+                    reached[u] = true;
+                }
+                g.spread_backward(&mut reached, &mut keep, |_, e, v| Ok(g.w[e] == top[v]))?;
+            } else if let Some(&(u, e, v)) = seeds.first() {
+                let mut nodes = vec![v];
+                keep[e] = true;
+                walk(u, &mut keep, &mut nodes, n, |x| {
+                    Ok(match arg.get(x).copied() {
+                        Some(e) if e != usize::MAX => Some((e, tail[x])),
+                        _ => None,
+                    })
+                })?;
+                nodes.reverse();
+                path = Some(nodes);
+            } else {
+                path = Some(Vec::new());
+            }
+        }
+        Method::KeyRoute { routes, global } => {
+            let seeds = heaviest_edges(w, routes)?;
+            let mut tails = alloc::with_capacity("key routes", seeds.len())?;
+            for &e in &seeds {
+                keep[e] = true;
+                // The tail of a seed: the row holding it (rows ascend).
+                let u = csr.indptr().partition_point(|p| p.to_usize() <= e);
+                tails.push(u.checked_sub(1).ok_or(Error::InputChanged { what: "indptr" })?);
+            }
+            let (mut ahead, mut behind) = (Vec::new(), Vec::new());
+            for (&e, &u) in seeds.iter().zip(&tails) {
+                ahead.push(g.head(e)?);
+                behind.push(u);
+            }
+            let mut scratch = Vec::new();
+            if global {
+                let (best, arg) = g.best_to()?;
+                let (best_in, arg_in, tail_in) = g.best_from()?;
+                if all_ties {
+                    let mut reached = alloc::filled("main path nodes", n, false)?;
+                    for &v in &ahead {
+                        reached[v] = true;
+                    }
+                    g.spread_forward(&mut reached, &mut keep, |u, e, v| {
+                        Ok(arg[u] != usize::MAX && g.weight(e)? + best[v] == best[u])
+                    })?;
+                    let mut reached = alloc::filled("main path nodes", n, false)?;
+                    for &u in &behind {
+                        reached[u] = true;
+                    }
+                    g.spread_backward(&mut reached, &mut keep, |u, e, v| {
+                        Ok(arg_in[v] != usize::MAX && best_in[u] + g.weight(e)? == best_in[v])
+                    })?;
+                } else {
+                    for (&v, &u) in ahead.iter().zip(&behind) {
+                        walk(v, &mut keep, &mut scratch, n, |x| {
+                            Ok(match arg.get(x).copied() {
+                                Some(e) if e != usize::MAX => Some((e, g.head(e)?)),
+                                _ => None,
+                            })
+                        })?;
+                        walk(u, &mut keep, &mut scratch, n, |x| {
+                            Ok(match arg_in.get(x).copied() {
+                                Some(e) if e != usize::MAX => Some((e, tail_in[x])),
+                                _ => None,
+                            })
+                        })?;
+                    }
+                }
+            } else {
+                let (top, arg_in, tail_in) = g.heaviest_in()?;
+                if all_ties {
+                    let mut reached = alloc::filled("main path nodes", n, false)?;
+                    for &v in &ahead {
+                        reached[v] = true;
+                    }
+                    g.spread_forward(&mut reached, &mut keep, |u, e, _| {
+                        Ok(g.heaviest_out(u)?.is_some_and(|(_, x)| g.w[e] == x))
+                    })?;
+                    let mut reached = alloc::filled("main path nodes", n, false)?;
+                    for &u in &behind {
+                        reached[u] = true;
+                    }
+                    g.spread_backward(&mut reached, &mut keep, |_, e, v| Ok(g.w[e] == top[v]))?;
+                } else {
+                    for (&v, &u) in ahead.iter().zip(&behind) {
+                        walk(v, &mut keep, &mut scratch, n, |x| {
+                            Ok(match g.heaviest_out(x)? {
+                                Some((e, _)) => Some((e, g.head(e)?)),
+                                None => None,
+                            })
+                        })?;
+                        walk(u, &mut keep, &mut scratch, n, |x| {
+                            Ok(match arg_in.get(x).copied() {
+                                Some(e) if e != usize::MAX => Some((e, tail_in[x])),
+                                _ => None,
+                            })
+                        })?;
+                    }
+                }
+            }
+        }
+    }
+    let edges = keep.iter().enumerate().filter_map(|(e, &k)| k.then_some(e)).collect();
+    Ok((edges, path))
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::edges::edges_to_csr;
+    use crate::rng::SplitMix64;
+
+    /// Every source-to-sink path's weight, by plain recursion.
+    fn heaviest_by_enumeration(csr: &Csr<'_, i64>, w: &[f64], u: usize) -> f64 {
+        let range = csr.row_range(u);
+        if range.is_empty() {
+            return 0.0;
+        }
+        range
+            .map(|e| w[e] + heaviest_by_enumeration(csr, w, csr.indices()[e] as usize))
+            .fold(f64::NEG_INFINITY, f64::max)
+    }
+
+    #[test]
+    fn global_main_path_is_the_heaviest_source_to_sink_path() {
+        let mut rng = SplitMix64::new(5);
+        for _ in 0..300 {
+            let n = 1 + rng.below(9) as usize;
+            let (mut src, mut dst) = (Vec::new(), Vec::new());
+            for _ in 0..rng.below(16) {
+                let (a, b) = (rng.below(n as u64) as i64, rng.below(n as u64) as i64);
+                if a != b {
+                    src.push(a.min(b));
+                    dst.push(a.max(b));
+                }
+            }
+            let g = edges_to_csr(&src, &dst, n, false).unwrap();
+            let csr = Csr::new(&g.indptr, &g.indices).unwrap();
+            let w: Vec<f64> = (0..csr.m()).map(|_| rng.below(4) as f64).collect();
+            let found =
+                main_path(&csr, EdgeWeight::Each(&w), Method::Global, false, 1).unwrap().unwrap();
+            let has_in: Vec<bool> = (0..n).map(|v| g.indices.contains(&(v as i64))).collect();
+            let expected = (0..n)
+                .filter(|&u| !has_in[u] && !csr.row(u).is_empty())
+                .map(|u| heaviest_by_enumeration(&csr, &w, u))
+                .fold(f64::NEG_INFINITY, f64::max);
+            let got: f64 = found.edge_weight.iter().sum();
+            if csr.m() == 0 {
+                assert!(found.edges.is_empty());
+            } else {
+                assert_eq!(got, expected);
+            }
+            let all =
+                main_path(&csr, EdgeWeight::Each(&w), Method::Global, true, 1).unwrap().unwrap();
+            assert!(found.edges.iter().all(|e| all.edges.contains(e)));
+        }
+    }
+
+    #[test]
+    fn key_routes_keep_their_seeds() {
+        let (src, dst) = (vec![0i64, 1, 1, 2, 3], vec![1i64, 2, 3, 4, 4]);
+        let g = edges_to_csr(&src, &dst, 5, false).unwrap();
+        let csr = Csr::new(&g.indptr, &g.indices).unwrap();
+        let w = [1.0, 5.0, 2.0, 1.0, 9.0];
+        for global in [false, true] {
+            let method = Method::KeyRoute { routes: 1, global };
+            let found = main_path(&csr, EdgeWeight::Each(&w), method, false, 1).unwrap().unwrap();
+            // Seed 3 -> 4 (weight 9); back 1 -> 3 then 0 -> 1.
+            assert_eq!(found.edges, vec![0, 2, 4]);
+        }
+    }
+}
