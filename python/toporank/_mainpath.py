@@ -215,7 +215,10 @@ class MainPath:
         sub = self.subgraph()
         names = list(sub.labels) if sub.labels is not None else list(range(sub.n))
         if key is None:
-            x = np.asarray(_core.levels(sub.indptr, sub.indices, 1, False).level, dtype=float)
+            # mapped back from a transformed graph the union may loop: condense then
+            from ._sweeps import levels
+
+            x = np.asarray(levels(sub, on_cycle="condense"), dtype=float)
         else:
             try:
                 x = np.array([float(key[name]) for name in names])
