@@ -41,7 +41,7 @@ def test_csv_output_is_the_heaviest_path(tmp_path, capsys):
         sum(weight[(u, v)] for u, v, _ in p) for p in nx.all_simple_edge_paths(g, "A", sinks)
     )
     assert sum(float(r["weight"]) for r in rows) == best  # networkx enumeration
-    assert [(r["source"], r["target"]) for r in rows][0][0] == "A"
+    assert rows[0]["source"] == "A"
     assert all(DAG[int(r["edge_index"])] == (r["source"], r["target"]) for r in rows)
 
 

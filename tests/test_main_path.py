@@ -5,6 +5,7 @@ Hummon & Doreian (1989), Batagelj (arXiv cs/0309023, 2003) and Liu & Lu
 
 from __future__ import annotations
 
+import itertools
 import math
 
 import networkx as nx
@@ -99,7 +100,7 @@ def test_global_main_path_is_the_heaviest_source_to_sink_path(graph, data):
             assert mp.nodes[0] not in dst and mp.nodes[-1] not in src
             steps = mp.nodes.tolist()
             pairs = sorted(zip(mp.sources.tolist(), mp.targets.tolist(), strict=True))
-            assert pairs == sorted(zip(steps, steps[1:]))
+            assert pairs == sorted(itertools.pairwise(steps))
             assert np.array_equal(src[mp.edge_index], mp.sources)
             assert np.array_equal(dst[mp.edge_index], mp.targets)
         every = toporank.main_path((src, dst), weight=weight, ties="all", n=n)
@@ -123,10 +124,11 @@ def test_local_main_paths_take_a_heaviest_edge_at_each_step(graph, data):
         return
     steps = forward.nodes.tolist()
     first = has_out & ~has_in
-    by_path = dict(zip(zip(src[forward.edge_index], dst[forward.edge_index]), w[forward.edge_index]))
+    chosen = forward.edge_index
+    by_path = dict(zip(zip(src[chosen], dst[chosen]), w[chosen]))
     start_edges = np.isin(src, np.flatnonzero(first))
     assert by_path[(steps[0], steps[1])] == w[start_edges].max()
-    for u, v in zip(steps[1:-1], steps[2:]):
+    for u, v in itertools.pairwise(steps[1:]):
         assert by_path[(u, v)] == w[src == u].max()
     assert not has_out[steps[-1]]
     steps = backward.nodes.tolist()
@@ -135,7 +137,7 @@ def test_local_main_paths_take_a_heaviest_edge_at_each_step(graph, data):
     )
     end_edges = np.isin(dst, np.flatnonzero(~has_out))
     assert by_path[(steps[-2], steps[-1])] == w[end_edges].max()
-    for u, v in zip(steps[:-2], steps[1:-1]):
+    for u, v in itertools.pairwise(steps[:-1]):
         assert by_path[(u, v)] == w[dst == v].max()
     assert not has_in[steps[0]]
     for method in ("forward", "backward"):

@@ -243,6 +243,7 @@ def critical_path(
 def path_counts(
     indptr: np.ndarray, indices: np.ndarray, threads: int = 1, kind: str = "spc"
 ) -> PathCounts | Cyclic: ...
+
 @final
 class MainPath:
     @property

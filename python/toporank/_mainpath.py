@@ -235,6 +235,7 @@ class MainPath:
         w = self.edge_weight
         span = float(w.max() - w.min()) if len(w) else 0.0
         widths = 1.0 + (5.0 * (w - w.min()) / span if span > 0 else np.full(len(w), 2.0))
+
         def at(node: Any) -> int:
             return sub.label_index[node] if sub.labels is not None else int(node)
 
@@ -438,7 +439,8 @@ def main_path(
     positions = edge_input[stored] if len(stored) else np.zeros(0, dtype=np.int64)
     by_input = np.argsort(positions, kind="stable")
     weights = np.asarray(found.edge_weight, dtype=np.float64)[by_input]
-    single = found.path is not None
+    path = found.path
+    single = path is not None
 
     def back(ids: np.ndarray) -> np.ndarray:
         ids = np.asarray(ids, dtype=np.int64)
@@ -448,8 +450,8 @@ def main_path(
             ids = node_of[ids]
         return as_nodes(g, ids.astype(g.indptr.dtype))
 
-    if single:
-        nodes = back(found.path)
+    if path is not None:
+        nodes = back(path)
     else:
         nodes = back(np.unique(np.concatenate([tails, heads])))
     if on_cycle == "condense" and dag is not g:

@@ -32,7 +32,9 @@ def register(commands: Any, common: list[argparse.ArgumentParser]) -> None:
                 "preprint (Batagelj's preprint transformation: each paper of a citation loop "
                 "gets a copy, results name the original papers)",
             ),
-            output_options("csv (source,target,edge_index,weight; default) or json", ("csv", "json")),
+            output_options(
+                "csv (source,target,edge_index,weight; default) or json", ("csv", "json")
+            ),
         ],
         help="write the main path of a citation graph (SPC, SPLC or SPNP weights)",
         description="Weight each edge by the search paths through it and write the main path: "
@@ -102,7 +104,9 @@ def run(args: argparse.Namespace) -> int:
             "total_weight": found.weight,
             "single_path": found.single,
             "nodes": [str(v) for v in found.nodes.tolist()],
-            "edges": [{**row, "source": str(row["source"]), "target": str(row["target"])} for row in rows],
+            "edges": [
+                {**row, "source": str(row["source"]), "target": str(row["target"])} for row in rows
+            ],
         }
         write(args.output, lambda f: f.write(json.dumps(content, indent=2) + "\n"))
     else:
