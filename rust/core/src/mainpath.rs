@@ -10,7 +10,7 @@
 
 use crate::interrupt::Ticker;
 use crate::paths::{path_counts_of, Kind};
-use crate::sweep::{Acyclic, LevelOrder};
+use crate::sweep::{backward, forward, Acyclic, LevelOrder};
 use crate::{alloc, levels, Csr, Error, Idx};
 
 /// How the main path is chosen.
@@ -77,22 +77,15 @@ impl<I: Idx> Graph<'_, '_, I> {
         Ok(start..start + row.len())
     }
 
-    fn nodes(&self) -> impl DoubleEndedIterator<Item = usize> + '_ {
-        self.order.iter().map(|u| u.to_usize())
-    }
-
     /// Per node: the heaviest weight of a path to a sink and its first edge
     /// (`usize::MAX` at sinks).
     fn best_to(&self) -> Result<(Vec<f64>, Vec<usize>), Error> {
         let n = self.csr.n();
         let mut best = alloc::filled("heaviest paths to sinks", n, 0.0f64)?;
         let mut arg = alloc::filled("heaviest first edges", n, usize::MAX)?;
-        let mut ticker = Ticker::new();
-        for u in self.nodes().rev() {
-            let edges = self.edges(u)?;
-            ticker.tick_by(edges.len() + 1)?;
+        backward(self.csr, self.order, |u| {
             let (mut top, mut pick) = (f64::NEG_INFINITY, usize::MAX);
-            for e in edges {
+            for e in self.edges(u)? {
                 let v = self.head(e)?;
                 let through = self.weight(e)? + best[v];
                 if through > top {
@@ -102,54 +95,66 @@ impl<I: Idx> Graph<'_, '_, I> {
             if pick != usize::MAX {
                 (best[u], arg[u]) = (top, pick);
             }
-        }
+            Ok(())
+        })?;
         Ok((best, arg))
     }
 
     /// Per node: the heaviest weight of a path from a source and its last
-    /// edge (`usize::MAX` at sources), with each edge's tail in `tail`.
-    fn best_from(&self) -> Result<(Vec<f64>, Vec<usize>, Vec<usize>), Error> {
+    /// edge (`usize::MAX` at sources), in one slot.
+    fn best_from(&self) -> Result<Vec<(f64, usize)>, Error> {
         let n = self.csr.n();
-        let mut best = alloc::filled("heaviest paths from sources", n, f64::NEG_INFINITY)?;
-        let mut arg = alloc::filled("heaviest last edges", n, usize::MAX)?;
-        let mut tail = alloc::filled("edge tails", n, usize::MAX)?;
-        let mut ticker = Ticker::new();
-        for u in self.nodes() {
-            let edges = self.edges(u)?;
-            ticker.tick_by(edges.len() + 1)?;
-            if best[u] == f64::NEG_INFINITY {
-                best[u] = 0.0;
+        let mut best =
+            alloc::filled("heaviest paths from sources", n, (f64::NEG_INFINITY, usize::MAX))?;
+        forward(self.csr, self.order, |u| {
+            if best[u].0 == f64::NEG_INFINITY {
+                best[u].0 = 0.0;
             }
-            let here = best[u];
-            for e in edges {
+            let here = best[u].0;
+            for e in self.edges(u)? {
                 let v = self.head(e)?;
                 let through = here + self.weight(e)?;
-                if through > best[v] {
-                    (best[v], arg[v], tail[v]) = (through, e, u);
+                let slot = &mut best[v];
+                if through > slot.0 {
+                    *slot = (through, e);
                 }
             }
-        }
-        Ok((best, arg, tail))
+            Ok(())
+        })?;
+        Ok(best)
     }
 
-    /// Per node: the heaviest edge weight into it, that edge and its tail.
-    fn heaviest_in(&self) -> Result<(Vec<f64>, Vec<usize>, Vec<usize>), Error> {
+    /// Per node: the heaviest edge weight into it and that edge (one slot
+    /// per node, so each edge costs one random access).
+    fn heaviest_in(&self) -> Result<Vec<(f64, usize)>, Error> {
         let n = self.csr.n();
-        let mut top = alloc::filled("heaviest edges in", n, f64::NEG_INFINITY)?;
-        let mut arg = alloc::filled("heaviest edges in", n, usize::MAX)?;
-        let mut tail = alloc::filled("edge tails", n, usize::MAX)?;
+        let mut top = alloc::filled("heaviest edges in", n, (f64::NEG_INFINITY, usize::MAX))?;
+        // Any node order will do: id order reads the rows one after another.
         let mut ticker = Ticker::new();
-        for u in self.nodes() {
+        for u in 0..n {
             let edges = self.edges(u)?;
             ticker.tick_by(edges.len() + 1)?;
             for e in edges {
                 let (v, x) = (self.head(e)?, self.weight(e)?);
-                if x > top[v] {
-                    (top[v], arg[v], tail[v]) = (x, e, u);
+                let slot = &mut top[v];
+                if x > slot.0 {
+                    *slot = (x, e);
                 }
             }
         }
-        Ok((top, arg, tail))
+        Ok(top)
+    }
+
+    /// The tail of stored edge `e`: the row holding it.
+    fn tail(&self, e: usize) -> Result<usize, Error> {
+        let u = self.csr.indptr().partition_point(|p| p.to_usize() <= e);
+        u.checked_sub(1).ok_or(Error::InputChanged { what: "indptr" })
+    }
+
+    /// The sources: level 0 of the order.
+    fn sources(&self, offsets: &[usize]) -> Result<&[I], Error> {
+        let end = offsets.get(1).copied().unwrap_or(0);
+        self.order.get(..end).ok_or(Error::InputChanged { what: "indices" })
     }
 
     /// The heaviest edge of `u`'s row (lowest index on ties), and its weight.
@@ -169,13 +174,11 @@ impl<I: Idx> Graph<'_, '_, I> {
         &self,
         reached: &mut [bool],
         keep: &mut [bool],
-        tight: impl Fn(usize, usize, usize) -> Result<bool, Error>,
+        mut tight: impl FnMut(usize, usize, usize) -> Result<bool, Error>,
     ) -> Result<(), Error> {
-        let mut ticker = Ticker::new();
-        for u in self.nodes() {
-            ticker.tick()?;
+        forward(self.csr, self.order, |u| {
             if !reached[u] {
-                continue;
+                return Ok(());
             }
             for e in self.edges(u)? {
                 let v = self.head(e)?;
@@ -184,8 +187,8 @@ impl<I: Idx> Graph<'_, '_, I> {
                     reached[v] = true;
                 }
             }
-        }
-        Ok(())
+            Ok(())
+        })
     }
 
     /// Follow `tight` edges backward into every `reached` node, in reverse order.
@@ -195,19 +198,16 @@ impl<I: Idx> Graph<'_, '_, I> {
         keep: &mut [bool],
         tight: impl Fn(usize, usize, usize) -> Result<bool, Error>,
     ) -> Result<(), Error> {
-        let mut ticker = Ticker::new();
-        for u in self.nodes().rev() {
-            let edges = self.edges(u)?;
-            ticker.tick_by(edges.len() + 1)?;
-            for e in edges {
+        backward(self.csr, self.order, |u| {
+            for e in self.edges(u)? {
                 let v = self.head(e)?;
                 if reached[v] && tight(u, e, v)? {
                     keep[e] = true;
                     reached[u] = true;
                 }
             }
-        }
-        Ok(())
+            Ok(())
+        })
     }
 }
 
@@ -238,6 +238,20 @@ fn walk(
 
 /// The `k` heaviest edges (lowest index first on ties), heaviest first.
 fn heaviest_edges(w: &[f64], k: usize) -> Result<Vec<usize>, Error> {
+    if k <= 64 {
+        // One sequential scan keeping the best k so far, heaviest first.
+        let mut best: Vec<(f64, usize)> = Vec::with_capacity(k + 1);
+        for (e, &x) in w.iter().enumerate() {
+            if best.len() == k && best.last().is_none_or(|&(low, _)| x <= low) {
+                continue;
+            }
+            // After every kept edge of weight >= x (earlier index wins ties).
+            let at = best.partition_point(|&(y, _)| y >= x);
+            best.insert(at, (x, e));
+            best.truncate(k);
+        }
+        return Ok(best.into_iter().map(|(_, e)| e).collect());
+    }
     let mut all = alloc::with_capacity("edge ranking", w.len())?;
     all.extend(0..w.len());
     let rank = |a: &usize, b: &usize| w[*b].total_cmp(&w[*a]).then(a.cmp(b));
@@ -318,11 +332,13 @@ fn extract<I: Idx>(
         Method::Global => {
             let (best, arg) = g.best_to()?;
             // Sources with an edge out; the heaviest, lowest id on ties.
-            let (top, _, _) = g.heaviest_in()?;
+            let mut sources: Vec<usize> =
+                g.sources(&order.offsets)?.iter().map(|u| u.to_usize()).collect();
+            sources.sort_unstable();
             let mut starts = Vec::new();
             let mut start_weight = f64::NEG_INFINITY;
-            for u in 0..n {
-                if top[u] == f64::NEG_INFINITY && !g.edges(u)?.is_empty() {
+            for u in sources {
+                if !g.edges(u)?.is_empty() {
                     if best[u] > start_weight {
                         starts.clear();
                         start_weight = best[u];
@@ -354,14 +370,13 @@ fn extract<I: Idx>(
             }
         }
         Method::Forward => {
-            let (top, _, _) = g.heaviest_in()?;
-            // The heaviest edges out of sources.
+            // The heaviest edges out of sources (lowest index on ties).
+            let mut sources: Vec<usize> =
+                g.sources(&order.offsets)?.iter().map(|u| u.to_usize()).collect();
+            sources.sort_unstable();
             let mut seeds = Vec::new();
             let mut seed_weight = f64::NEG_INFINITY;
-            for u in 0..n {
-                if top[u] != f64::NEG_INFINITY {
-                    continue;
-                }
+            for u in sources {
                 for e in g.edges(u)? {
                     let x = g.weight(e)?;
                     if x > seed_weight {
@@ -379,8 +394,12 @@ fn extract<I: Idx>(
                     keep[e] = true;
                     reached[g.head(e)?] = true;
                 }
+                let mut row_top = (usize::MAX, 0.0);
                 g.spread_forward(&mut reached, &mut keep, |u, e, _| {
-                    Ok(g.heaviest_out(u)?.is_some_and(|(_, x)| g.w[e] == x))
+                    if row_top.0 != u {
+                        row_top = (u, g.heaviest_out(u)?.map_or(f64::NAN, |(_, x)| x));
+                    }
+                    Ok(g.weight(e)? == row_top.1)
                 })?;
             } else if let Some(&(s, e)) = seeds.first() {
                 let mut nodes = vec![s];
@@ -397,7 +416,7 @@ fn extract<I: Idx>(
             }
         }
         Method::Backward => {
-            let (top, arg, tail) = g.heaviest_in()?;
+            let top = g.heaviest_in()?;
             // The heaviest edges into sinks.
             let mut seeds = Vec::new();
             let mut seed_weight = f64::NEG_INFINITY;
@@ -423,13 +442,13 @@ fn extract<I: Idx>(
                     keep[e] = true;
                     reached[u] = true;
                 }
-                g.spread_backward(&mut reached, &mut keep, |_, e, v| Ok(g.w[e] == top[v]))?;
+                g.spread_backward(&mut reached, &mut keep, |_, e, v| Ok(g.w[e] == top[v].0))?;
             } else if let Some(&(u, e, v)) = seeds.first() {
                 let mut nodes = vec![v];
                 keep[e] = true;
                 walk(u, &mut keep, &mut nodes, n, |x| {
-                    Ok(match arg.get(x).copied() {
-                        Some(e) if e != usize::MAX => Some((e, tail[x])),
+                    Ok(match top.get(x).copied() {
+                        Some((_, e)) if e != usize::MAX => Some((e, g.tail(e)?)),
                         _ => None,
                     })
                 })?;
@@ -444,9 +463,7 @@ fn extract<I: Idx>(
             let mut tails = alloc::with_capacity("key routes", seeds.len())?;
             for &e in &seeds {
                 keep[e] = true;
-                // The tail of a seed: the row holding it (rows ascend).
-                let u = csr.indptr().partition_point(|p| p.to_usize() <= e);
-                tails.push(u.checked_sub(1).ok_or(Error::InputChanged { what: "indptr" })?);
+                tails.push(g.tail(e)?);
             }
             let (mut ahead, mut behind) = (Vec::new(), Vec::new());
             for (&e, &u) in seeds.iter().zip(&tails) {
@@ -456,7 +473,7 @@ fn extract<I: Idx>(
             let mut scratch = Vec::new();
             if global {
                 let (best, arg) = g.best_to()?;
-                let (best_in, arg_in, tail_in) = g.best_from()?;
+                let best_in = g.best_from()?;
                 if all_ties {
                     let mut reached = alloc::filled("main path nodes", n, false)?;
                     for &v in &ahead {
@@ -470,7 +487,8 @@ fn extract<I: Idx>(
                         reached[u] = true;
                     }
                     g.spread_backward(&mut reached, &mut keep, |u, e, v| {
-                        Ok(arg_in[v] != usize::MAX && best_in[u] + g.weight(e)? == best_in[v])
+                        let (here, there) = (best_in[u].0, best_in[v]);
+                        Ok(there.1 != usize::MAX && here + g.weight(e)? == there.0)
                     })?;
                 } else {
                     for (&v, &u) in ahead.iter().zip(&behind) {
@@ -481,28 +499,32 @@ fn extract<I: Idx>(
                             })
                         })?;
                         walk(u, &mut keep, &mut scratch, n, |x| {
-                            Ok(match arg_in.get(x).copied() {
-                                Some(e) if e != usize::MAX => Some((e, tail_in[x])),
+                            Ok(match best_in.get(x).copied() {
+                                Some((_, e)) if e != usize::MAX => Some((e, g.tail(e)?)),
                                 _ => None,
                             })
                         })?;
                     }
                 }
             } else {
-                let (top, arg_in, tail_in) = g.heaviest_in()?;
+                let top = g.heaviest_in()?;
                 if all_ties {
                     let mut reached = alloc::filled("main path nodes", n, false)?;
                     for &v in &ahead {
                         reached[v] = true;
                     }
+                    let mut row_top = (usize::MAX, 0.0);
                     g.spread_forward(&mut reached, &mut keep, |u, e, _| {
-                        Ok(g.heaviest_out(u)?.is_some_and(|(_, x)| g.w[e] == x))
+                        if row_top.0 != u {
+                            row_top = (u, g.heaviest_out(u)?.map_or(f64::NAN, |(_, x)| x));
+                        }
+                        Ok(g.weight(e)? == row_top.1)
                     })?;
                     let mut reached = alloc::filled("main path nodes", n, false)?;
                     for &u in &behind {
                         reached[u] = true;
                     }
-                    g.spread_backward(&mut reached, &mut keep, |_, e, v| Ok(g.w[e] == top[v]))?;
+                    g.spread_backward(&mut reached, &mut keep, |_, e, v| Ok(g.w[e] == top[v].0))?;
                 } else {
                     for (&v, &u) in ahead.iter().zip(&behind) {
                         walk(v, &mut keep, &mut scratch, n, |x| {
@@ -512,8 +534,8 @@ fn extract<I: Idx>(
                             })
                         })?;
                         walk(u, &mut keep, &mut scratch, n, |x| {
-                            Ok(match arg_in.get(x).copied() {
-                                Some(e) if e != usize::MAX => Some((e, tail_in[x])),
+                            Ok(match top.get(x).copied() {
+                                Some((_, e)) if e != usize::MAX => Some((e, g.tail(e)?)),
                                 _ => None,
                             })
                         })?;

@@ -356,7 +356,8 @@ fn counts_with<I: Idx, T: Terms<f64> + Terms<u64> + Terms<Log>>(
     } else {
         None
     };
-    let counts = Counts { from_sources: from, to_sinks: to, through_edge: through, total, exact, log };
+    let counts =
+        Counts { from_sources: from, to_sinks: to, through_edge: through, total, exact, log };
     Ok(Ok((counts, levels)))
 }
 
