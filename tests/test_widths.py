@@ -65,6 +65,10 @@ CALLS = {
     "heights": lambda g: toporank.heights(g, threads=2).tolist(),
     "critical_path": lambda g: toporank.critical_path(g, edge_weight="data").path.tolist(),
     "path_counts": lambda g: toporank.path_counts(g).exact_through_edge.tolist(),
+    "main_path": lambda g: toporank.main_path(g, method="key-route", routes=2).nodes.tolist(),
+    "preprint_transform": lambda g: toporank.preprint_transform(
+        _with_back_edge(g)
+    ).edge_of.tolist(),
     "components": lambda g: toporank.components(g).tolist(),
     "condense": lambda g: toporank.condense(g).dag.toarray().tolist(),
     "cycle_witness": lambda g: toporank.cycle_witness(_with_back_edge(g), through=1).tolist(),
@@ -126,6 +130,8 @@ NOT_GRAPH_FUNCTIONS = {
     "Comparison",
     "CriticalPath",
     "PathCounts",
+    "MainPath",
+    "Preprint",
     "Condensation",
     "CycleCut",
     "ReadOptions",

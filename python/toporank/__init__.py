@@ -22,6 +22,7 @@ try:
     from ._dynamic import DynamicOrder
     from ._errors import CyclicGraphError, GraphInputError, InvalidOrderError
     from ._graph import Graph, as_graph
+    from ._mainpath import MainPath, Preprint, main_path, preprint_transform
     from ._metrics import OrderMetrics, order_metrics
     from ._order import TIES, order, positions, verify_order
     from ._schedule import SCHEDULE_TIES, Schedule, schedule
@@ -47,8 +48,10 @@ __all__ = [
     "GraphFileError",
     "GraphInputError",
     "InvalidOrderError",
+    "MainPath",
     "OrderMetrics",
     "PathCounts",
+    "Preprint",
     "ReadOptions",
     "Schedule",
     "as_graph",
@@ -60,10 +63,12 @@ __all__ = [
     "cycle_witness",
     "heights",
     "levels",
+    "main_path",
     "order",
     "order_metrics",
     "path_counts",
     "positions",
+    "preprint_transform",
     "read_graph",
     "save_graph",
     "schedule",

@@ -24,6 +24,7 @@ __all__ = [
     "LabelInterner",
     "Levels",
     "LogCounts",
+    "MainPath",
     "OrderMetrics",
     "PathCounts",
     "Schedule",
@@ -40,6 +41,7 @@ __all__ = [
     "kahn_order",
     "levels",
     "list_schedule",
+    "main_path",
     "order_despite_cycles",
     "order_metrics",
     "path_counts",
@@ -245,8 +247,30 @@ def critical_path(
     threads: int = 1,
 ) -> CriticalPath | Cyclic: ...
 def path_counts(
-    indptr: np.ndarray, indices: np.ndarray, threads: int = 1
+    indptr: np.ndarray, indices: np.ndarray, threads: int = 1, kind: str = "spc"
 ) -> PathCounts | Cyclic: ...
+
+@final
+class MainPath:
+    @property
+    def edges(self) -> np.ndarray: ...
+    @property
+    def path(self) -> np.ndarray | None: ...
+    @property
+    def edge_weight(self) -> np.ndarray: ...
+    @property
+    def log_weights(self) -> bool: ...
+
+def main_path(
+    indptr: np.ndarray,
+    indices: np.ndarray,
+    kind: str = "spc",
+    edge_weight: np.ndarray | None = None,
+    method: str = "global",
+    routes: int = 1,
+    all_ties: bool = False,
+    threads: int = 1,
+) -> MainPath | Cyclic: ...
 
 # graphs with cycles
 @final

@@ -97,6 +97,20 @@ def journal(seed: int = 7) -> tuple[list[tuple[str, str]], dict[str, int]]:
     return edges, dict(papers)
 
 
+def journal_main_path(
+    since: int = 2019, method: str = "global"
+) -> tuple[toporank.MainPath, dict[str, int]]:
+    """The main path (SPC weights) of the invented journal's papers from ``since`` on.
+
+    The papers of one issue citing each other in a ring go through the
+    preprint transformation; returns the main path and each paper's year.
+    """
+    citations, years = journal()
+    recent = [(a, b) for a, b in citations if years[a] >= since and years[b] >= since]
+    found = toporank.main_path(recent, method=method, on_cycle="preprint")
+    return found, years
+
+
 def monorepo() -> list[tuple[str, str]]:
     """Import edges ``(module, imported module)`` of the invented monorepo."""
     return [(module, imported) for module, imports in MONOREPO.items() for imported in imports]

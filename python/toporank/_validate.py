@@ -136,6 +136,16 @@ def sweep_threads(threads: Any) -> int:
     return thread_count(threads)
 
 
+COUNT_KINDS = ("spc", "splc", "spnp")
+
+
+def choice(value: Any, name: str, options: tuple[str, ...]) -> str:
+    """``value`` checked to be one of the strings ``options``."""
+    if not isinstance(value, str) or value not in options:
+        raise GraphInputError(f"{name} must be one of {options}, got {show(value)}")
+    return value
+
+
 def on_cycle_choice(on_cycle: Any) -> OnCycle:
     """``on_cycle`` checked against :data:`ON_CYCLE`."""
     if not isinstance(on_cycle, str) or on_cycle not in ON_CYCLE:

@@ -1,12 +1,12 @@
 """The ``toporank`` command: order, levels, cycles, verify and compare graphs stored in files.
 
 One module per subcommand (:mod:`.order`, :mod:`.levels`, :mod:`.cycles`,
-:mod:`.verify`, :mod:`.compare`, :mod:`.pack`, :mod:`.demo`) over :mod:`.options` (the
+:mod:`.verify`, :mod:`.compare`, :mod:`.pack`, :mod:`.mainpath`, :mod:`.demo`) over :mod:`.options` (the
 option vocabulary, declared once as argparse parent parsers) and
 :mod:`.output` (exit statuses, messages, writing).
 
 Exit status: 0 success; 1 a cycle was found (``order``, ``levels`` and
-``compare`` with ``--on-cycle raise``, ``cycles``) or the order checked by
+``compare`` and ``mainpath`` with ``--on-cycle raise``, ``cycles``) or the order checked by
 ``verify`` is not topological; 2 bad input or usage (one line naming file,
 line and offending text; nothing is written); 130 interrupted by Ctrl-C (no
 partial output is left). Regular output files are written to a temporary
@@ -26,7 +26,7 @@ from collections.abc import Sequence
 import toporank
 
 from .._errors import CyclicGraphError, GraphInputError
-from . import compare, cycles, demo, levels, order, pack, verify
+from . import compare, cycles, demo, levels, mainpath, order, pack, verify
 from .options import common_options, input_options, tie_options
 from .output import (
     EXIT_BAD_INPUT,
@@ -58,6 +58,7 @@ def parser() -> argparse.ArgumentParser:
     verify.register(commands, reading)
     compare.register(commands, reading)
     pack.register(commands, reading)
+    mainpath.register(commands, reading)
     demo.register(commands, [common])
     return top
 

@@ -90,17 +90,25 @@ def input_options() -> argparse.ArgumentParser:
     return p
 
 
-def on_cycle_options(what: str) -> argparse.ArgumentParser:
-    """``--on-cycle`` with the same four choices everywhere a cycle can stop the work."""
+def on_cycle_options(
+    what: str, choices: tuple[str, ...] = ON_CYCLE, more: str = ""
+) -> argparse.ArgumentParser:
+    """``--on-cycle`` with the same choices everywhere a cycle can stop the work
+    (``choices``/``more``: a command's own set and the help for its extra ones)."""
     p = _parent()
+    told = {
+        "raise": "raise (report a cycle, exit 1; default)",
+        "partial": f"partial ({what} only the nodes not behind a cycle; a note says how many "
+        "are left out)",
+        "condense": "condense (each strongly connected component kept together as one)",
+        "cut": "cut (drop the edges cut_cycles picks first)",
+    }
+    parts = [told[c] for c in choices if c in told]
     p.add_argument(
         "--on-cycle",
-        choices=ON_CYCLE,
+        choices=choices,
         default="raise",
-        help=f"a graph with cycles: raise (report a cycle, exit 1; default), partial ({what} "
-        "only the nodes not behind a cycle; a note says how many are left out), condense "
-        "(each strongly connected component kept together as one), cut (drop the edges "
-        "cut_cycles picks first)",
+        help="a graph with cycles: " + ", ".join(parts) + (f", {more}" if more else ""),
     )
     return p
 

@@ -26,6 +26,7 @@ pub mod intern;
 pub mod interrupt;
 pub mod kahn;
 pub mod levels;
+pub mod mainpath;
 pub mod metrics;
 pub mod paths;
 pub mod peel;

@@ -118,8 +118,9 @@ impl Arithmetic for Log {
 /// path weights (SPLC, SPNP) are other terms over the same programme.
 pub(crate) trait Terms<A>: Sync {
     /// The count of paths into `u`, given the sum `inflow` over its
-    /// predecessors (`ZERO` exactly when `u` has none).
-    fn start(&self, u: usize, inflow: A) -> A;
+    /// predecessors (`ZERO` exactly when `u` has none); `None` when it
+    /// leaves `A`'s range.
+    fn start(&self, u: usize, inflow: A) -> Option<A>;
     /// The term of paths out of `u`, ending there when it `is_sink`.
     fn end(&self, u: usize, is_sink: bool) -> A;
 }
@@ -129,13 +130,9 @@ pub(crate) struct SourcesToSinks;
 
 impl<A: Arithmetic> Terms<A> for SourcesToSinks {
     #[inline(always)]
-    fn start(&self, _u: usize, inflow: A) -> A {
+    fn start(&self, _u: usize, inflow: A) -> Option<A> {
         // Only a source reaches its turn without a path in.
-        if inflow == A::ZERO {
-            A::ONE
-        } else {
-            inflow
-        }
+        Some(if inflow == A::ZERO { A::ONE } else { inflow })
     }
     #[inline(always)]
     fn end(&self, _u: usize, is_sink: bool) -> A {
@@ -145,6 +142,51 @@ impl<A: Arithmetic> Terms<A> for SourcesToSinks {
             A::ZERO
         }
     }
+}
+
+/// Search path link count (SPLC): every node starts a path (each ancestor of
+/// an edge's tail, the tail included), every path ends at a sink.
+pub(crate) struct FromEveryNode;
+
+impl<A: Arithmetic> Terms<A> for FromEveryNode {
+    #[inline(always)]
+    fn start(&self, _u: usize, inflow: A) -> Option<A> {
+        inflow.add(A::ONE)
+    }
+    #[inline(always)]
+    fn end(&self, _u: usize, is_sink: bool) -> A {
+        if is_sink {
+            A::ONE
+        } else {
+            A::ZERO
+        }
+    }
+}
+
+/// Search path node pair (SPNP): every node starts a path and every node
+/// ends one, so an edge counts the paths between all node pairs through it.
+pub(crate) struct BetweenEveryPair;
+
+impl<A: Arithmetic> Terms<A> for BetweenEveryPair {
+    #[inline(always)]
+    fn start(&self, _u: usize, inflow: A) -> Option<A> {
+        inflow.add(A::ONE)
+    }
+    #[inline(always)]
+    fn end(&self, _u: usize, _is_sink: bool) -> A {
+        A::ONE
+    }
+}
+
+/// The traversal weight a path count stands for (main path analysis).
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Kind {
+    /// Search path count: source-to-sink paths.
+    Spc,
+    /// Search path link count: paths from every node to the sinks.
+    Splc,
+    /// Search path node pair: paths between every pair of nodes.
+    Spnp,
 }
 
 /// One path-count table in one arithmetic.
@@ -185,7 +227,7 @@ pub(crate) fn count_paths<I: Idx, P: Idx, A: Arithmetic, T: Terms<A>>(
                 csr,
                 A::ZERO,
                 |u, from| {
-                    *from = terms.start(u, *from);
+                    *from = checked(terms.start(u, *from));
                     *from
                 },
                 |&passed, _, _, from| *from = checked(from.add(passed)),
@@ -198,7 +240,7 @@ pub(crate) fn count_paths<I: Idx, P: Idx, A: Arithmetic, T: Terms<A>>(
         Some(levels) => {
             let mut from = alloc::filled("paths from sources", n, A::ZERO)?;
             forward(csr, &levels.order, |u| {
-                let count = terms.start(u, from[u]);
+                let count = checked(terms.start(u, from[u]));
                 from[u] = count;
                 for v in csr.checked_row(u)? {
                     let slot = from
@@ -251,7 +293,30 @@ pub fn path_counts<I: Idx, P: Idx>(
     csr: &Csr<'_, I, P>,
     threads: usize,
 ) -> Result<Acyclic<Counts, I>, Error> {
-    let (levels, floats) = match count_paths::<I, P, f64, _>(csr, None, threads, &SourcesToSinks)? {
+    Ok(counts_with(csr, threads, &SourcesToSinks)?.map(|(counts, _)| counts))
+}
+
+/// The path counts of `kind` with the level order found on the way.
+pub fn path_counts_of<I: Idx, P: Idx>(
+    csr: &Csr<'_, I, P>,
+    threads: usize,
+    kind: Kind,
+) -> Result<Acyclic<(Counts, LevelOrder<I>), I>, Error> {
+    match kind {
+        Kind::Spc => counts_with(csr, threads, &SourcesToSinks),
+        Kind::Splc => counts_with(csr, threads, &FromEveryNode),
+        Kind::Spnp => counts_with(csr, threads, &BetweenEveryPair),
+    }
+}
+
+/// Float, exact and log counts with `terms` (every count of the three
+/// kinds is at most the total, which the exactness bounds rely on).
+fn counts_with<I: Idx, P: Idx, T: Terms<f64> + Terms<u64> + Terms<Log>>(
+    csr: &Csr<'_, I, P>,
+    threads: usize,
+    terms: &T,
+) -> Result<Acyclic<(Counts, LevelOrder<I>), I>, Error> {
+    let (levels, floats) = match count_paths::<I, P, f64, _>(csr, None, threads, terms)? {
         Ok((Some(levels), Some(floats))) => (levels, floats),
         Ok(_) => return Err(Error::Internal { reason: "float path counts went missing".into() }),
         Err(cyclic) => return Ok(Err(cyclic)),
@@ -266,7 +331,7 @@ pub fn path_counts<I: Idx, P: Idx>(
             total: total as u64,
         })
     } else if total < SURELY_TOO_BIG {
-        match count_paths::<I, P, u64, _>(csr, Some(&levels), threads, &SourcesToSinks)? {
+        match count_paths::<I, P, u64, _>(csr, Some(&levels), threads, terms)? {
             Ok((_, table)) => table.map(|t| ExactCounts {
                 from_sources: t.from,
                 to_sinks: t.to,
@@ -279,7 +344,7 @@ pub fn path_counts<I: Idx, P: Idx>(
         None
     };
     let log = if total.is_infinite() {
-        match count_paths::<I, P, Log, _>(csr, Some(&levels), threads, &SourcesToSinks)? {
+        match count_paths::<I, P, Log, _>(csr, Some(&levels), threads, terms)? {
             Ok((_, table)) => table.map(|t| {
                 let logs = |values: Vec<Log>| values.into_iter().map(|x| x.0).collect();
                 LogCounts {
@@ -294,7 +359,9 @@ pub fn path_counts<I: Idx, P: Idx>(
     } else {
         None
     };
-    Ok(Ok(Counts { from_sources: from, to_sinks: to, through_edge: through, total, exact, log }))
+    let counts =
+        Counts { from_sources: from, to_sinks: to, through_edge: through, total, exact, log };
+    Ok(Ok((counts, levels)))
 }
 
 #[cfg(test)]

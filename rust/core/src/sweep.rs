@@ -271,6 +271,21 @@ where
     })
 }
 
+/// [`forward`] from the last node of `order` to the first: a backward pass
+/// on one thread when the order is already known.
+pub fn backward<I, P, F>(csr: &Csr<'_, I, P>, order: &[I], mut step: F) -> Result<(), Error>
+where
+    I: Idx,
+    P: Idx,
+    F: FnMut(usize) -> Result<(), Error>,
+{
+    let mut ticker = Ticker::new();
+    walk(csr, order.iter().rev(), |u| {
+        ticker.tick()?;
+        step(u)
+    })
+}
+
 /// `step` each node `nodes` yields, fetching the rows a
 /// few nodes ahead (the order is known in advance, as in the FIFO loop).
 #[inline(always)]

@@ -16,6 +16,7 @@ mod common;
 mod cycles;
 mod dynamic;
 mod errors;
+mod mainpath;
 mod metrics;
 mod order;
 mod peel;
@@ -34,5 +35,6 @@ fn _core(m: &Bound<'_, PyModule>) -> PyResult<()> {
     peel::register(m)?;
     dynamic::register(m)?;
     build::register(m)?;
+    mainpath::register(m)?;
     Ok(())
 }

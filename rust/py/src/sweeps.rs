@@ -226,6 +226,7 @@ struct PathCounts {
 
 struct PathCountsOf {
     threads: usize,
+    kind: paths::Kind,
 }
 
 impl<'py> OnGraph<'py> for PathCountsOf {
@@ -236,11 +237,12 @@ impl<'py> OnGraph<'py> for PathCountsOf {
         indptr: &[P],
         indices: &[I],
     ) -> PyResult<Self::Output> {
-        let threads = self.threads;
-        let swept =
-            compute(py, || paths::path_counts(&Csr::from_arrays(indptr, indices)?, threads))?;
+        let (threads, kind) = (self.threads, self.kind);
+        let swept = compute(py, || {
+            paths::path_counts_of(&Csr::from_arrays(indptr, indices)?, threads, kind)
+        })?;
         let counts = match swept {
-            Ok(counts) => counts,
+            Ok((counts, _)) => counts,
             Err(outcome) => return cyclic(py, outcome),
         };
         let exact = counts
@@ -279,16 +281,29 @@ impl<'py> OnGraph<'py> for PathCountsOf {
     }
 }
 
-/// Path counts (a `PathCounts`), or a `Cyclic`.
+/// The traversal weight named by `kind` ("spc", "splc" or "spnp").
+pub(crate) fn count_kind(kind: &str) -> PyResult<paths::Kind> {
+    match kind {
+        "spc" => Ok(paths::Kind::Spc),
+        "splc" => Ok(paths::Kind::Splc),
+        "spnp" => Ok(paths::Kind::Spnp),
+        other => Err(crate::errors::input_error(format!(
+            "kind must be 'spc', 'splc' or 'spnp', got {other:?}"
+        ))),
+    }
+}
+
+/// Path counts of `kind` (a `PathCounts`), or a `Cyclic`.
 #[pyfunction]
-#[pyo3(signature = (indptr, indices, threads=1))]
+#[pyo3(signature = (indptr, indices, threads=1, kind="spc"))]
 fn path_counts<'py>(
     py: Python<'py>,
     indptr: &Bound<'py, PyAny>,
     indices: &Bound<'py, PyAny>,
     threads: usize,
+    kind: &str,
 ) -> PyResult<Bound<'py, PyAny>> {
-    on_graph(py, indptr, indices, PathCountsOf { threads })
+    on_graph(py, indptr, indices, PathCountsOf { threads, kind: count_kind(kind)? })
 }
 
 pub(crate) fn register(m: &Bound<'_, PyModule>) -> PyResult<()> {
