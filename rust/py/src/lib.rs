@@ -15,6 +15,7 @@ mod common;
 mod cycles;
 mod dynamic;
 mod errors;
+mod frontier;
 mod metrics;
 mod order;
 mod peel;
@@ -32,5 +33,6 @@ fn _core(m: &Bound<'_, PyModule>) -> PyResult<()> {
     cycles::register(m)?;
     peel::register(m)?;
     dynamic::register(m)?;
+    frontier::register(m)?;
     Ok(())
 }
