@@ -20,7 +20,8 @@ try:
     from ._compare import Comparison, compare
     from ._cycles import Condensation, CycleCut, components, condense, cut_cycles, cycle_witness
     from ._dynamic import DynamicOrder
-    from ._errors import CyclicGraphError, GraphInputError, InvalidOrderError
+    from ._errors import CyclicGraphError, GraphInputError, InvalidOrderError, TaskStateError
+    from ._frontier import Frontier
     from ._graph import Graph, as_graph
     from ._metrics import OrderMetrics, order_metrics
     from ._order import TIES, order, positions, verify_order
@@ -43,6 +44,7 @@ __all__ = [
     "CycleCut",
     "CyclicGraphError",
     "DynamicOrder",
+    "Frontier",
     "Graph",
     "GraphFileError",
     "GraphInputError",
@@ -51,6 +53,7 @@ __all__ = [
     "PathCounts",
     "ReadOptions",
     "Schedule",
+    "TaskStateError",
     "as_graph",
     "compare",
     "components",
