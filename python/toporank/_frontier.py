@@ -24,6 +24,9 @@ from ._validate import (
 __all__ = ["Frontier"]
 
 _INT64_MAX = 2**63 - 1
+_ID_TYPES = frozenset(
+    {int, np.int64, np.int32, np.int16, np.int8, np.uint64, np.uint32, np.uint16, np.uint8}
+)
 
 
 class Frontier:
@@ -227,12 +230,17 @@ class Frontier:
         ...     print(misuse)
         cannot finish task 0: it is already finished
         """
-        if type(tasks) is int and self._labels is None and 0 <= tasks < self._n:
-            done = self._core.finish_one(tasks)
-            given: Any = [tasks]
-        else:
-            ids, given = self._ids(tasks)
-            done = self._core.finish(ids)
+        if type(tasks) in _ID_TYPES and self._labels is None:
+            # one integer id: the executor's hot path (the core checks the range)
+            try:
+                refused = self._core.finish_one(tasks)
+            except OverflowError:
+                raise GraphInputError(f"tasks = {tasks} is not a node of the graph") from None
+            if refused is not None:
+                raise self._refused(refused, [tasks])
+            return
+        ids, given = self._ids(tasks)
+        done = self._core.finish(ids)
         if isinstance(done, _core.Refused):
             raise self._refused(done, given)
 

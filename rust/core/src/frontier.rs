@@ -161,12 +161,18 @@ impl Ready {
     }
 }
 
+/// The remaining in-degree of a skipped task: no count of finished
+/// predecessors ever brings it to zero (a task has at most `m` of them).
+const SKIPPED: usize = usize::MAX / 2;
+
 /// The executor's view of a DAG: see the module documentation.
 pub struct Frontier {
-    /// Row `u` of the graph is `targets[offsets[u]..offsets[u + 1]]`.
+    /// Row `u` of the graph is `targets[offsets[u]..offsets[u + 1]]`
+    /// (task ids fit `u32`: half the memory traffic of `usize`).
     offsets: Vec<usize>,
-    targets: Vec<usize>,
-    /// Predecessors not yet done, per task.
+    targets: Vec<u32>,
+    /// Predecessors not yet done, per task; [`SKIPPED`] for a skipped task,
+    /// so that releasing a successor reads one slot, never its state.
     left: Vec<usize>,
     state: Vec<State>,
     ready: Ready,
@@ -218,10 +224,15 @@ impl Frontier {
 
     fn build<I: Idx>(csr: &Csr<'_, I>, ready: Ready) -> Result<Self, Error> {
         let n = csr.n();
+        if n > u32::MAX as usize {
+            return Err(Error::TooLarge { what: "tasks", count: n, max: u32::MAX as usize });
+        }
         let mut offsets = alloc::with_capacity("frontier rows", n + 1)?;
         offsets.extend(csr.indptr().iter().map(|p| p.to_usize()));
         let mut targets = alloc::with_capacity("frontier edges", csr.m())?;
-        targets.extend(csr.indices().iter().map(|v| v.to_usize()));
+        // An id beyond u32 (the arrays changed since the check) wraps to a
+        // value the in-degree pass below still refuses or counts in range.
+        targets.extend(csr.indices().iter().map(|v| v.to_usize() as u32));
         // The copy is what the frontier reads from now on: check it, not
         // the caller's arrays (which another thread may be changing).
         if offsets.len() != n + 1
@@ -232,7 +243,7 @@ impl Frontier {
         }
         let mut left = alloc::filled("frontier in-degrees", n, 0usize)?;
         for &v in &targets {
-            *left.get_mut(v).ok_or(Error::InputChanged { what: "indices" })? += 1;
+            *left.get_mut(v as usize).ok_or(Error::InputChanged { what: "indices" })? += 1;
         }
         let mut frontier = Frontier {
             offsets,
@@ -363,9 +374,9 @@ impl Frontier {
             let (start, end) = (self.offsets[u], self.offsets[u + 1]);
             ticker.tick_by(end - start + 1)?;
             for position in start..end {
-                let v = self.targets[position];
+                let v = self.targets[position] as usize;
                 self.left[v] -= 1;
-                if self.left[v] == 0 && self.state[v] == State::Waiting {
+                if self.left[v] == 0 {
                     self.make_ready(v);
                 }
             }
@@ -393,11 +404,12 @@ impl Frontier {
                 let (start, end) = (self.offsets[w], self.offsets[w + 1]);
                 ticker.tick_by(end - start + 1)?;
                 for position in start..end {
-                    let v = self.targets[position];
+                    let v = self.targets[position] as usize;
                     // A descendant of a running task cannot have been taken
                     // or become ready: it is waiting, or skipped already.
                     if self.state[v] == State::Waiting {
                         self.state[v] = State::Skipped;
+                        self.left[v] = SKIPPED;
                         self.skipped.push(v);
                         stack.push(v);
                     }

@@ -217,6 +217,11 @@ impl FrontierCore {
     /// Up to `k` ready tasks (all when None), now running (int64).
     #[pyo3(signature = (k=None))]
     fn take(&self, py: Python<'_>, k: Option<usize>) -> PyResult<Py<PyArray1<i64>>> {
+        if k == Some(1) {
+            let taken = self.locked(py, |f| f.take(k))?;
+            let one: Vec<i64> = taken.iter().map(|&x| x as i64).collect();
+            return Ok(one.into_pyarray(py).unbind());
+        }
         let taken = match k {
             Some(small) if small <= 64 => self.locked(py, |f| f.take(k))?,
             _ => compute(py, || self.inner.lock().map_err(|_| poisoned())?.take(k))?,
@@ -224,12 +229,9 @@ impl FrontierCore {
         Ok(ids(py, &taken))
     }
 
-    /// Finish one running task: the number of tasks it released, or `Refused`.
-    fn finish_one<'py>(&self, py: Python<'py>, task: i64) -> PyResult<Bound<'py, PyAny>> {
-        match self.locked(py, |f| f.finish(&[task]))? {
-            Ok(released) => Ok(released.into_pyobject(py)?.into_any()),
-            Err(misuse) => Ok(Bound::new(py, Refused::from(misuse))?.into_any()),
-        }
+    /// Finish one running task: None, or `Refused`.
+    fn finish_one(&self, py: Python<'_>, task: i64) -> PyResult<Option<Refused>> {
+        Ok(self.locked(py, |f| f.finish(&[task]))?.err().map(Refused::from))
     }
 
     /// Finish running `tasks` (int64): the number of tasks released, or `Refused`.
