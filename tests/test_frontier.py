@@ -15,9 +15,8 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 
 import toporank
-from toporank._synthetic import citation_dag
-
 from graphs import edge_lists, to_networkx
+from toporank._synthetic import citation_dag
 
 
 def _drain_one_at_a_time(frontier):

@@ -194,9 +194,7 @@ class Frontier:
                 raise GraphInputError(f"k must be None or a count >= 0, got {k}")
         taken = self._core.take(k)
         if not len(taken) and self._core.is_done:
-            raise TaskStateError(
-                "nothing left to take: every task is finished, failed or skipped"
-            )
+            raise TaskStateError("nothing left to take: every task is finished, failed or skipped")
         return self._nodes(taken)
 
     def finish(self, tasks: Any) -> None:
