@@ -195,7 +195,7 @@ class Frontier:
         taken = self._core.take(k)
         if not len(taken) and self._core.is_done:
             raise TaskStateError("nothing left to take: every task is finished, failed or skipped")
-        return self._nodes(taken)
+        return taken if self._labels is None else self._labels[taken]
 
     def finish(self, tasks: Any) -> None:
         """Mark running ``tasks`` finished, releasing their successors.

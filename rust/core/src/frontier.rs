@@ -198,11 +198,8 @@ impl Frontier {
     /// The frontier of `csr` under `tie`, or the Kahn outcome naming a cycle.
     /// O(V + E) (a copy of the graph), plus O(V log V) for a keyed priority.
     pub fn new<I: Idx>(csr: &Csr<'_, I>, tie: &Tie<'_>) -> Result<Result<Self, Outcome<I>>, Error> {
-        let outcome = kahn(csr, &Tie::Queue)?;
-        if !outcome.is_complete() {
-            return Ok(Err(outcome));
-        }
-        Self::build(csr, Ready::of(tie, csr.n())?).map(Ok)
+        let frontier = Self::build(csr, Ready::of(tie, csr.n())?)?;
+        frontier.or_cycle(csr)
     }
 
     /// The frontier of `csr` handing out the largest bottom level first
@@ -219,7 +216,47 @@ impl Frontier {
         let mut complemented = alloc::with_capacity("critical ranks", csr.n())?;
         complemented.extend(level.iter().map(|l| !l.sort_key()));
         let key = Key { values: Some(crate::KeyValues::U64(&complemented)), descending: false };
-        Self::build(csr, Ready::of(&Tie::Priority(key), csr.n())?).map(Ok)
+        let frontier = Self::build(csr, Ready::of(&Tie::Priority(key), csr.n())?)?;
+        frontier.or_cycle(csr)
+    }
+
+    /// `self` if its copy of the graph is acyclic, else the Kahn outcome of
+    /// `csr` naming a cycle.
+    fn or_cycle<I: Idx>(self, csr: &Csr<'_, I>) -> Result<Result<Self, Outcome<I>>, Error> {
+        if self.acyclic()? {
+            return Ok(Ok(self));
+        }
+        let outcome = kahn(csr, &Tie::Queue)?;
+        if outcome.is_complete() {
+            return Err(Error::InputChanged { what: "indices" });
+        }
+        Ok(Err(outcome))
+    }
+
+    /// Kahn's loop (LIFO, the cheapest) over the copy: whether it reaches
+    /// every task.
+    fn acyclic(&self) -> Result<bool, Error> {
+        let n = self.n();
+        let mut count = alloc::with_capacity("frontier check", n)?;
+        count.extend_from_slice(&self.left);
+        let mut stack: Vec<u32> = alloc::with_capacity("frontier check", n)?;
+        stack.extend((0..n).filter(|&v| count[v] == 0).map(|v| v as u32));
+        let mut reached = 0usize;
+        let mut ticker = Ticker::new();
+        while let Some(u) = stack.pop() {
+            let u = u as usize;
+            reached += 1;
+            let (start, end) = (self.offsets[u], self.offsets[u + 1]);
+            ticker.tick_by(end - start + 1)?;
+            for &v in &self.targets[start..end] {
+                let v = v as usize;
+                count[v] -= 1;
+                if count[v] == 0 {
+                    stack.push(v as u32);
+                }
+            }
+        }
+        Ok(reached == n)
     }
 
     fn build<I: Idx>(csr: &Csr<'_, I>, ready: Ready) -> Result<Self, Error> {
@@ -229,21 +266,25 @@ impl Frontier {
         }
         let mut offsets = alloc::with_capacity("frontier rows", n + 1)?;
         offsets.extend(csr.indptr().iter().map(|p| p.to_usize()));
-        let mut targets = alloc::with_capacity("frontier edges", csr.m())?;
-        // An id beyond u32 (the arrays changed since the check) wraps to a
-        // value the in-degree pass below still refuses or counts in range.
-        targets.extend(csr.indices().iter().map(|v| v.to_usize() as u32));
         // The copy is what the frontier reads from now on: check it, not
         // the caller's arrays (which another thread may be changing).
         if offsets.len() != n + 1
             || offsets.windows(2).any(|w| w[0] > w[1])
-            || offsets.last() != Some(&targets.len())
+            || offsets.last() != Some(&csr.m())
         {
             return Err(Error::InputChanged { what: "indptr" });
         }
+        let mut targets: Vec<u32> = alloc::with_capacity("frontier edges", csr.m())?;
         let mut left = alloc::filled("frontier in-degrees", n, 0usize)?;
-        for &v in &targets {
-            *left.get_mut(v as usize).ok_or(Error::InputChanged { what: "indices" })? += 1;
+        for &v in csr.indices() {
+            match left.get_mut(v.to_usize()) {
+                Some(count) => *count += 1,
+                None => {
+                    csr.check_indices()?; // names the offending entry
+                    return Err(Error::InputChanged { what: "indices" });
+                }
+            }
+            targets.push(v.to_usize() as u32);
         }
         let mut frontier = Frontier {
             offsets,
@@ -508,5 +549,21 @@ mod tests {
         let csr = Csr::new(&[0i32, 1, 2], &[1, 0]).unwrap();
         let outcome = Frontier::new(&csr, &Tie::Queue).unwrap().unwrap_err();
         assert!(!outcome.is_complete());
+        // A cycle below an acyclic prefix: 0 -> 1 -> 2 -> 1.
+        let csr = Csr::new(&[0i64, 1, 2, 3], &[1, 2, 1]).unwrap();
+        let outcome = Frontier::new(&csr, &Tie::Stack).unwrap().unwrap_err();
+        assert_eq!(outcome.cycle, vec![1, 2]);
+    }
+
+    #[test]
+    fn an_id_beyond_the_nodes_is_named_not_wrapped() {
+        // 2**32 would wrap to node 0 in the u32 copy.
+        let csr = Csr::new(&[0i64, 1, 1], &[1 << 32]).unwrap();
+        assert!(matches!(
+            Frontier::new(&csr, &Tie::Queue),
+            Err(Error::IndexOutOfRange { position: 0, .. })
+        ));
+        let csr = Csr::new(&[0i32, 1, 1], &[-1]).unwrap();
+        assert!(Frontier::new(&csr, &Tie::Queue).is_err());
     }
 }
