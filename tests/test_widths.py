@@ -74,6 +74,7 @@ CALLS = {
     "cycle_witness": lambda g: toporank.cycle_witness(_with_back_edge(g), through=1).tolist(),
     "cut_cycles": lambda g: toporank.cut_cycles(g).order.tolist(),
     "DynamicOrder": lambda g: _dynamic_run(g),
+    "Frontier": lambda g: _frontier_run(g),
 }
 
 
@@ -103,6 +104,14 @@ def _dynamic_run(graph):
     d.add_edges(np.array([4], dtype=np.int32), np.array([3], dtype=np.int32))
     d.remove_edge(2, 1)
     return d.order.tolist(), d.graph.indices.tolist()
+
+
+def _frontier_run(graph):
+    f = toporank.Frontier(graph, tie="critical")
+    first = f.take(1).tolist()
+    f.finish(first)
+    skipped = f.fail(f.take(1)).tolist()
+    return first, skipped, f.take().tolist(), f.remaining
 
 
 def _saved_and_read(matrix):

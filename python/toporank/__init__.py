@@ -20,7 +20,8 @@ try:
     from ._compare import Comparison, compare
     from ._cycles import Condensation, CycleCut, components, condense, cut_cycles, cycle_witness
     from ._dynamic import DynamicOrder
-    from ._errors import CyclicGraphError, GraphInputError, InvalidOrderError
+    from ._errors import CyclicGraphError, GraphInputError, InvalidOrderError, TaskStateError
+    from ._frontier import Frontier
     from ._graph import Graph, as_graph
     from ._mainpath import MainPath, Preprint, main_path, preprint_transform
     from ._metrics import OrderMetrics, order_metrics
@@ -44,6 +45,7 @@ __all__ = [
     "CycleCut",
     "CyclicGraphError",
     "DynamicOrder",
+    "Frontier",
     "Graph",
     "GraphFileError",
     "GraphInputError",
@@ -54,6 +56,7 @@ __all__ = [
     "Preprint",
     "ReadOptions",
     "Schedule",
+    "TaskStateError",
     "as_graph",
     "compare",
     "components",

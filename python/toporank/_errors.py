@@ -11,11 +11,29 @@ from typing import Any
 
 import numpy as np
 
-__all__ = ["CyclicGraphError", "GraphInputError", "InvalidOrderError"]
+__all__ = ["CyclicGraphError", "GraphInputError", "InvalidOrderError", "TaskStateError"]
 
 
 class GraphInputError(ValueError):
     """The graph, a key or another argument is malformed (dtype, shape, id, length)."""
+
+
+class TaskStateError(RuntimeError):
+    """A :class:`toporank.Frontier` was asked for what its state does not allow.
+
+    Finishing or failing a task that is not running (never taken, already
+    done, failed or skipped, or listed twice in one batch), or taking a task
+    after every task is settled. ``task`` is the offending task (``None`` when
+    none is to blame) and ``state`` where it stands; the frontier is unchanged.
+    """
+
+    def __init__(self, message: str, task: Any = None, state: str | None = None) -> None:
+        super().__init__(message)
+        self.task = task
+        self.state = state
+
+    def __reduce__(self) -> tuple[Any, ...]:
+        return (TaskStateError, (str(self), self.task, self.state))
 
 
 def _show(nodes: Any, limit: int = 12) -> str:

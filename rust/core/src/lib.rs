@@ -20,6 +20,7 @@ pub mod cut;
 pub mod dynamic;
 pub mod edges;
 pub mod error;
+pub mod frontier;
 pub mod heap;
 pub mod index;
 pub mod intern;

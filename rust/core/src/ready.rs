@@ -168,6 +168,13 @@ pub struct IdHeap {
     flip: u64,
 }
 
+impl IdHeap {
+    /// An empty heap: smallest item first, or largest when `descending`.
+    pub fn new(descending: bool) -> Self {
+        IdHeap { heap: QuadHeap::new(), flip: if descending { !0 } else { 0 } }
+    }
+}
+
 impl ReadySet for IdHeap {
     #[inline]
     fn push(&mut self, item: usize) {

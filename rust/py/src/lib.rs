@@ -16,6 +16,7 @@ mod common;
 mod cycles;
 mod dynamic;
 mod errors;
+mod frontier;
 mod mainpath;
 mod metrics;
 mod order;
@@ -36,5 +37,6 @@ fn _core(m: &Bound<'_, PyModule>) -> PyResult<()> {
     dynamic::register(m)?;
     build::register(m)?;
     mainpath::register(m)?;
+    frontier::register(m)?;
     Ok(())
 }

@@ -14,12 +14,12 @@ use crate::common::{
 use crate::errors::input_error;
 
 /// Durations as the core takes them: whole numbers or floats.
-enum Durations<'py> {
+pub(crate) enum Durations<'py> {
     Int(Array<'py, i64>),
     Float(Array<'py, f64>),
 }
 
-fn read_durations<'py>(durations: &Bound<'py, PyAny>) -> PyResult<Durations<'py>> {
+pub(crate) fn read_durations<'py>(durations: &Bound<'py, PyAny>) -> PyResult<Durations<'py>> {
     const DTYPES: &str = "int64 or float64";
     if has_dtype::<f64>(durations) {
         return Ok(Durations::Float(read(durations, "durations", DTYPES)?));
