@@ -23,12 +23,14 @@ __all__ = [
     "PathCounts",
     "Schedule",
     "Violation",
+    "Witnesses",
     "_raise_error_kind",
     "bottom_levels",
     "condensation",
     "critical_path",
     "cut_cycles",
     "cycle_witness",
+    "cycle_witnesses",
     "edges_to_csr",
     "heights",
     "kahn_order",
@@ -269,6 +271,21 @@ class Cut:
     def removed(self) -> np.ndarray: ...
     @property
     def order(self) -> np.ndarray: ...
+    @property
+    def untested(self) -> int: ...
+
+@final
+class Witnesses:
+    @property
+    def labels(self) -> np.ndarray: ...
+    @property
+    def count(self) -> int: ...
+    @property
+    def components(self) -> np.ndarray: ...
+    @property
+    def offsets(self) -> np.ndarray: ...
+    @property
+    def nodes(self) -> np.ndarray: ...
 
 def strong_components(indptr: np.ndarray, indices: np.ndarray) -> Components: ...
 def condensation(indptr: np.ndarray, indices: np.ndarray) -> Condensation: ...
@@ -285,6 +302,7 @@ def cycle_witness(
     indptr: np.ndarray, indices: np.ndarray, through: int | None = None
 ) -> np.ndarray | None: ...
 def cut_cycles(indptr: np.ndarray, indices: np.ndarray) -> Cut: ...
+def cycle_witnesses(indptr: np.ndarray, indices: np.ndarray) -> Witnesses: ...
 
 __all__ += ["PeelStep", "peel_shard"]
 
