@@ -450,6 +450,7 @@ def test_cut_of_mid_sized_graphs_leaves_a_dag_and_each_cut_edge_closes_a_cycle(g
     rest = to_networkx(rest_src, rest_dst, n)
     assert nx.is_directed_acyclic_graph(rest)  # networkx
     check_topological(rest_src, rest_dst, n, cut.order)
+    assert cut.untested == 0
     # Components this small are tested without a search budget, so the cut
     # is minimal: each cut edge u -> v closes a cycle (networkx has_path).
     for u, v in zip(cut.sources.tolist(), cut.targets.tolist(), strict=True):
@@ -503,7 +504,33 @@ def test_cut_of_a_uniform_random_graph_is_valid_and_quick(n, m):
         for u, v in zip(cut.sources.tolist(), cut.targets.tolist(), strict=True)
     )
     assert closing >= 0.5 * len(cut)
+    # Only the edges counted untested may fail to close a cycle: every
+    # tested one does (networkx has_path above).
+    assert len(cut) - closing <= cut.untested
     assert took < 5.0, f"{took:.1f} s"
+
+
+def test_cut_counts_untested_edges_only_beyond_the_exact_size():
+    # A dense random graph: its one big component is far beyond the size
+    # tested without a budget, and the budget runs out on some tests.
+    rng = np.random.default_rng(11)
+    n, m = 1_000, 10_000
+    src, dst = rng.integers(0, n, m), rng.integers(0, n, m)
+    cut = toporank.cut_cycles((src, dst), n=n)
+    rest_src, rest_dst = remaining(src, dst, n, cut)
+    rest = to_networkx(rest_src, rest_dst, n)
+    assert nx.is_directed_acyclic_graph(rest)  # networkx
+    open_edges = sum(
+        not (u == v or nx.has_path(rest, v, u))
+        for u, v in zip(cut.sources.tolist(), cut.targets.tolist(), strict=True)
+    )
+    assert 0 < cut.untested < len(cut)
+    assert open_edges <= cut.untested
+    # The same count reaches the command line's cut report.
+    from toporank._graph import as_graph
+    from toporank._report import cut_report
+
+    assert cut_report(as_graph((src, dst), n=n))["untested"] == cut.untested
 
 
 @given(edge_lists(max_nodes=12, max_edges=30, acyclic=False))

@@ -89,10 +89,15 @@ def cycle_report(g: Graph, *, witnesses: bool, limit: int | None = None) -> dict
 
 
 def cut_report(g: Graph) -> dict[str, Any]:
-    """The edges ``cut_cycles`` removes: sources, targets (as nodes) and input positions."""
+    """The edges ``cut_cycles`` removes: sources, targets (as nodes) and input positions.
+
+    ``untested`` counts the cut edges whose put-back test ran out of budget;
+    the cut is minimal when it is 0.
+    """
     cut = toporank.cut_cycles(plain(g))
     return {
         "count": len(cut),
+        "untested": cut.untested,
         "source": named(g, np.asarray(cut.sources, dtype=np.int64)),
         "target": named(g, np.asarray(cut.targets, dtype=np.int64)),
         "edge": np.asarray(cut.edge_index).tolist(),
