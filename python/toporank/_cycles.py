@@ -124,7 +124,7 @@ class Condensation:
             raise GraphInputError(f"component must be an integer, got {component!r}") from None
         if isinstance(component, bool) or not 0 <= c < self.count:
             raise GraphInputError(
-                f"component {component!r} does not exist; labels lie in 0..{self.count - 1}"
+                f"component {component!r} does not exist; labels satisfy 0 <= label < {self.count}"
             )
         start, grouped = self._grouped
         return as_nodes(self._graph, grouped[start[c] : start[c + 1]])

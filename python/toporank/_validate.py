@@ -86,7 +86,7 @@ def node_count(n: Any) -> int:
     n = int(n)
     if not 0 <= n <= LARGEST_COUNT:
         raise GraphInputError(
-            f"n = {n} is not a node count; it must lie in 0..{LARGEST_COUNT} (2**63 - 1)"
+            f"n = {n} is not a node count; it must satisfy 0 <= n <= {LARGEST_COUNT} (2**63 - 1)"
         )
     return n
 
@@ -191,7 +191,7 @@ def random_seed(seed: Any) -> int:
         return int(np.random.SeedSequence().generate_state(1, np.uint64)[0])
     value = whole_number(seed, "seed")
     if not 0 <= value <= _UINT64_MAX:
-        raise GraphInputError(f"seed must lie in 0..2**64 - 1, got {value}")
+        raise GraphInputError(f"seed must satisfy 0 <= seed < 2**64, got {value}")
     return value
 
 
@@ -354,7 +354,7 @@ def node_argument(g: Graph, node: Any, name: str) -> int:
     value = int(node)
     if not 0 <= value < g.n:
         raise GraphInputError(
-            f"{name} = {value} is not a node id; ids must lie in 0..{g.n} (n = {g.n})"
+            f"{name} = {value} is not a node id; ids must satisfy 0 <= id < {g.n}"
         )
     return value
 
