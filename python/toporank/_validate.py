@@ -79,6 +79,22 @@ def worker_count(workers: Any) -> int:
     )
 
 
+# More timed runs than this only repeat a median that stopped moving long
+# before, and a huge count (say 2**64) would run for ever.
+MAX_REPEAT = 1000
+
+
+def repeat_count(repeat: Any) -> int:
+    """Timed runs per policy of a comparison: a whole number in ``1..MAX_REPEAT``."""
+    runs = positive_int(repeat, "repeat")
+    if runs > MAX_REPEAT:
+        raise GraphInputError(
+            f"repeat = {runs} timed runs per policy is too many; it must satisfy "
+            f"1 <= repeat <= {MAX_REPEAT}"
+        )
+    return runs
+
+
 def node_count(n: Any) -> int:
     """A node count ``n``: a whole number in ``0..2**63 - 1``."""
     if isinstance(n, (bool, np.bool_)) or not isinstance(n, (int, np.integer)):
