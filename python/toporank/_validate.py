@@ -95,6 +95,29 @@ def repeat_count(repeat: Any) -> int:
     return runs
 
 
+def distributed_on_cycle(on_cycle: Any) -> str:
+    """``on_cycle`` of ``toporank.distributed``: ``"raise"``, ``"mark"`` or ``"report"``."""
+    choices = ("raise", "mark", "report")
+    if not isinstance(on_cycle, str) or on_cycle not in choices:
+        raise GraphInputError(f"on_cycle must be one of {choices}, got {show(on_cycle)}")
+    return on_cycle
+
+
+def tie_column(tie: Any, nodes: Any) -> str | None:
+    """``tie`` of ``toporank.distributed.order``: None, or a column name of ``nodes``."""
+    if tie is None:
+        if nodes is not None:
+            raise GraphInputError("nodes gives tie-break keys; name the column with tie=")
+        return None
+    if not isinstance(tie, str) or not tie:
+        raise GraphInputError(f"tie must be a column name of nodes, got {show(tie)}")
+    if nodes is None:
+        raise GraphInputError(f"tie={tie!r} needs nodes=, the table holding that column")
+    if tie in ("node", "level", "position"):
+        raise GraphInputError(f"tie must not be {tie!r}: that column is the order's own")
+    return tie
+
+
 def node_count(n: Any) -> int:
     """A node count ``n``: a whole number in ``0..2**63 - 1``."""
     if isinstance(n, (bool, np.bool_)) or not isinstance(n, (int, np.integer)):
