@@ -224,3 +224,24 @@ def test_messages_show_plain_values():
 def test_duplicate_labels_are_refused_by_name():
     with pytest.raises(GraphInputError, match=r"labels\[2\] = 'io' repeats labels\[0\]"):
         toporank.Graph.from_labelled_edges([0], [1], ["io", "net", "io"])
+
+
+def test_id_range_messages_read_as_half_open():
+    # "0..3 (n = 3)" reads as if 3 were allowed; the messages spell out
+    # 0 <= id < n, the half-open range of ids (common practice).
+    indptr, indices = np.array([0, 1, 1, 1], dtype=np.int64), np.array([3], dtype=np.int64)
+    with pytest.raises(GraphInputError, match=r"indices\[0\] = 3 is not a node id; ") as core_edge:
+        _core.cycle_witness(indptr, indices)
+    ok = np.array([0, 1, 1, 1], dtype=np.int64), np.array([1], dtype=np.int64)
+    with pytest.raises(GraphInputError, match=r"through = 3 is not a node id; ") as core_node:
+        _core.cycle_witness(*ok, 3)
+    with pytest.raises(GraphInputError, match=r"through = 3 is not a node id; ") as python_node:
+        toporank.cycle_witness((np.array([0]), np.array([1])), through=3, n=3)
+    with pytest.raises(GraphInputError, match=r"v = 3 is not a node id; ") as dynamic_node:
+        toporank.DynamicOrder(n=3).add_edge(0, 3)
+    for raised in (core_edge, core_node, python_node, dynamic_node):
+        message = str(raised.value)
+        assert message.endswith("ids must satisfy 0 <= id < 3"), message
+        assert "0..3" not in message
+    with pytest.raises(GraphInputError, match=r"labels satisfy 0 <= label < 2$"):
+        toporank.condense([(0, 1), (1, 0), (1, 2)]).members(2)

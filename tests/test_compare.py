@@ -7,6 +7,7 @@ import io
 import json
 import math
 import sys
+import time
 
 import numpy as np
 import pytest
@@ -140,3 +141,24 @@ def test_bad_arguments_are_named():
         toporank.compare(np.array([[0, 1], [1, 0]]), ("queue",))
     with pytest.raises(toporank.CyclicGraphError):
         toporank.compare(np.array([[0, 1], [1, 0]]), ("critical",))
+
+
+@pytest.mark.parametrize("repeat", [2**64, 10**6, 1_001])
+def test_huge_repeat_is_refused_at_once(repeat):
+    # repeat=2**64 used to start timing runs that would never end; a count
+    # beyond the cap is refused before any work (common practice: validate
+    # arguments up front). Timed so a regression cannot hang quietly.
+    edges = (np.array([0, 1]), np.array([1, 2]))
+    start = time.perf_counter()
+    with pytest.raises(toporank.GraphInputError, match=rf"repeat = {repeat} timed runs"):
+        toporank.compare(edges, repeat=repeat)
+    assert time.perf_counter() - start < 1.0
+    with pytest.raises(toporank.GraphInputError, match=r"1 <= repeat <= 1000"):
+        toporank.compare(edges, repeat=repeat)
+
+
+def test_repeat_at_the_cap_runs():
+    edges = (np.array([0, 1]), np.array([1, 2]))
+    c = toporank.compare(edges, ("queue",), repeat=1000)
+    assert c.repeat == 1000
+    assert "median of 1000 run(s)" in str(c)

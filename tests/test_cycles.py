@@ -450,6 +450,7 @@ def test_cut_of_mid_sized_graphs_leaves_a_dag_and_each_cut_edge_closes_a_cycle(g
     rest = to_networkx(rest_src, rest_dst, n)
     assert nx.is_directed_acyclic_graph(rest)  # networkx
     check_topological(rest_src, rest_dst, n, cut.order)
+    assert cut.untested == 0
     # Components this small are tested without a search budget, so the cut
     # is minimal: each cut edge u -> v closes a cycle (networkx has_path).
     for u, v in zip(cut.sources.tolist(), cut.targets.tolist(), strict=True):
@@ -503,4 +504,90 @@ def test_cut_of_a_uniform_random_graph_is_valid_and_quick(n, m):
         for u, v in zip(cut.sources.tolist(), cut.targets.tolist(), strict=True)
     )
     assert closing >= 0.5 * len(cut)
+    # Only the edges counted untested may fail to close a cycle: every
+    # tested one does (networkx has_path above).
+    assert len(cut) - closing <= cut.untested
     assert took < 5.0, f"{took:.1f} s"
+
+
+def test_cut_counts_untested_edges_only_beyond_the_exact_size():
+    # A dense random graph: its one big component is far beyond the size
+    # tested without a budget, and the budget runs out on some tests.
+    rng = np.random.default_rng(11)
+    n, m = 1_000, 10_000
+    src, dst = rng.integers(0, n, m), rng.integers(0, n, m)
+    cut = toporank.cut_cycles((src, dst), n=n)
+    rest_src, rest_dst = remaining(src, dst, n, cut)
+    rest = to_networkx(rest_src, rest_dst, n)
+    assert nx.is_directed_acyclic_graph(rest)  # networkx
+    open_edges = sum(
+        not (u == v or nx.has_path(rest, v, u))
+        for u, v in zip(cut.sources.tolist(), cut.targets.tolist(), strict=True)
+    )
+    assert 0 < cut.untested < len(cut)
+    assert open_edges <= cut.untested
+    # The same count reaches the command line's cut report.
+    from toporank._graph import as_graph
+    from toporank._report import cut_report
+
+    assert cut_report(as_graph((src, dst), n=n))["untested"] == cut.untested
+
+
+@given(edge_lists(max_nodes=12, max_edges=30, acyclic=False))
+def test_cycle_report_witness_per_component_is_shortest_inside_it(graph):
+    from toporank._graph import as_graph
+    from toporank._report import cycle_report
+
+    src, dst, n = graph
+    g = to_networkx(src, dst, n)
+    report = cycle_report(as_graph((src, dst), n=n), witnesses=True)
+    # networkx: the components holding a cycle, largest first.
+    cyclic = [
+        sorted(c)
+        for c in nx.strongly_connected_components(g)
+        if len(c) > 1 or g.has_edge(*[*c] * 2)
+    ]
+    assert report["cyclic_components"] == len(cyclic)
+    assert report["component_sizes"] == sorted((len(c) for c in cyclic), reverse=True)
+    assert len(report["components"]) == len(cyclic)
+    seen = set()
+    for entry in report["components"]:
+        cycle = np.asarray(entry["cycle"], dtype=np.int64)
+        members = next(c for c in cyclic if cycle[0] in c)
+        assert entry["size"] == len(members)
+        assert cycle[0] == members[0]  # the component's smallest node
+        assert set(cycle.tolist()) <= set(members)
+        assert_real_cycle(cycle, src, dst)
+        # networkx BFS on the component alone: a shortest cycle through the
+        # start is an edge u -> start closing a shortest start ~> u path.
+        inside = g.subgraph(members)
+        lengths = nx.single_source_shortest_path_length(inside, members[0])
+        best = min(lengths[u] + 1 for u in inside.predecessors(members[0]) if u in lengths)
+        assert len(cycle) == best
+        seen.add(members[0])
+    assert len(seen) == len(cyclic)
+
+
+def test_cycle_report_witnesses_take_one_pass_beside_a_wide_node():
+    from toporank._graph import as_graph
+    from toporank._report import cycle_report
+
+    # 4,000 two-node cycles beside one node with 200,000 successors: one
+    # search per component scanning every edge took seconds here; a search
+    # kept inside each component is one pass over the graph.
+    k, wide = 4_000, 200_000
+    src = np.concatenate([np.arange(0, 2 * k, 2), np.arange(1, 2 * k, 2), np.full(wide, 2 * k)])
+    dst = np.concatenate(
+        [np.arange(1, 2 * k, 2), np.arange(0, 2 * k, 2), 2 * k + 1 + np.arange(wide)]
+    )
+    g = as_graph((src, dst))
+    cycle_report(g, witnesses=True)  # warm up
+    start = time.perf_counter()
+    report = cycle_report(g, witnesses=True)
+    took = time.perf_counter() - start
+    assert report["cyclic_components"] == k
+    # networkx: each component is a 2-cycle {2i, 2i + 1}, shortest cycle length 2.
+    whole = to_networkx(src[: 2 * k], dst[: 2 * k], 2 * k)
+    assert sorted(map(sorted, nx.simple_cycles(whole))) == [[2 * i, 2 * i + 1] for i in range(k)]
+    assert all(entry["cycle"] == [2 * i, 2 * i + 1] for i, entry in enumerate(report["components"]))
+    assert took < 0.5, f"{took:.2f} s (this shape took 1.6-3.6 s with a search per component)"

@@ -234,3 +234,86 @@ def test_progress_bar_counts_levelled_nodes(client, capsys):
     td.levels(frame([0, 1, 2], [1, 2, 3]), client=client, partitions=2, progress=True)
     err = capsys.readouterr().err
     assert "levelled" in err and "4/4" in err
+
+
+@pytest.mark.parametrize("partitions", [1, 3])
+def test_order_breaks_ties_by_a_user_column(client, partitions):
+    n = 240
+    src, dst, _ = citation_dag(n, 4, seed=13)
+    rng = np.random.default_rng(partitions)
+    listed = rng.permutation(n)[: n - 30]  # 30 nodes have no row: they come last in their level
+    year = rng.integers(1990, 1995, len(listed)).astype(float)
+    year[:10] = np.nan  # missing values come last too
+    nodes = dd.from_pandas(
+        pd.DataFrame({"node": np.append(listed, [n + 5]), "year": np.append(year, [0.0])}),
+        npartitions=3,
+    )
+    got = td.order(
+        frame(src, dst), client=client, partitions=partitions, tie="year", nodes=nodes
+    ).compute()
+    # Reference: networkx levels, then (level, year with missing last, id) sorted by pandas.
+    level = nx_levels(n, src, dst)
+    key = pd.Series(year, index=listed).reindex(np.arange(n)).to_numpy()
+    expected = (
+        pd.DataFrame({"node": np.arange(n), "level": level, "key": key})
+        .sort_values(["level", "key", "node"], na_position="last", kind="mergesort")["node"]
+        .tolist()
+    )
+    assert got["node"].tolist() == expected
+    assert got["position"].tolist() == list(range(n))
+    np.testing.assert_array_equal(got["level"].to_numpy(), level[got["node"].to_numpy()])
+    g = nx.DiGraph(list(zip(src.tolist(), dst.tolist())))
+    rank = {v: k for k, v in enumerate(expected)}
+    assert all(rank[u] < rank[v] for u, v in g.edges)  # still a topological order (networkx)
+
+
+def test_tie_arguments_are_checked(client):
+    good = frame([0, 1], [1, 2])
+    nodes = dd.from_pandas(pd.DataFrame({"node": [0, 1, 2], "rank": [3, 2, 1]}), npartitions=1)
+    with pytest.raises(toporank.GraphInputError, match="needs nodes="):
+        td.order(good, client=client, tie="rank")
+    with pytest.raises(toporank.GraphInputError, match="name the column with tie="):
+        td.order(good, client=client, nodes=nodes)
+    with pytest.raises(toporank.GraphInputError, match="no column 'year'"):
+        td.order(good, client=client, tie="year", nodes=nodes)
+    twice = dd.from_pandas(pd.DataFrame({"node": [0, 0], "rank": [1, 2]}), npartitions=1)
+    with pytest.raises(toporank.GraphInputError, match="more than once"):
+        td.order(good, client=client, tie="rank", nodes=twice).compute()
+    # A key column reverses the id order inside a level (from memory: 1 and 2 share level 1).
+    wide = frame([0, 0], [1, 2])
+    rank = dd.from_pandas(pd.DataFrame({"node": [1, 2], "rank": [9, 4]}), npartitions=1)
+    got = td.order(wide, client=client, tie="rank", nodes=rank).compute()
+    assert got["node"].tolist() == [0, 2, 1]
+
+
+def test_report_hands_the_unlevelled_part_to_the_cycle_tools(client):
+    src, dst, _ = citation_dag(200, 3, seed=7)
+    src, dst = with_back_edges(src, dst, 4, seed=7)
+    g = nx.DiGraph(list(zip(src.tolist(), dst.tolist())))
+    g.add_nodes_from(range(200))
+    cyclic = [sorted(c) for c in nx.strongly_connected_components(g) if len(c) > 1]
+    assert cyclic, "the back edges must create a cycle"
+    for call in (td.levels, td.order):
+        with pytest.raises(td.UnlevelledNodesError) as caught:
+            call(frame(src, dst), client=client, partitions=3, on_cycle="report")
+        cycles = caught.value.cycles
+        assert cycles is not None and len(cycles) == len(cyclic)  # networkx components
+        starts = set()
+        for cycle in cycles:
+            members = next(c for c in cyclic if cycle[0] in c)
+            assert cycle[0] == members[0] and set(cycle.tolist()) <= set(members)
+            for k, u in enumerate(cycle.tolist()):
+                assert g.has_edge(u, int(cycle[(k + 1) % len(cycle)]))  # a real cycle
+            # networkx BFS: shortest cycle through the component's smallest node.
+            inside = g.subgraph(members)
+            lengths = nx.single_source_shortest_path_length(inside, members[0])
+            assert len(cycle) == min(lengths[u] + 1 for u in inside.predecessors(members[0]))
+            starts.add(members[0])
+        assert len(starts) == len(cyclic)
+        assert "cycle(s) found among them" in str(caught.value)
+    # Above the limit nothing is gathered, and the message says why.
+    with pytest.raises(td.UnlevelledNodesError, match="gather_limit = 3") as caught:
+        td.levels(frame(src, dst), client=client, on_cycle="report", gather_limit=3)
+    assert caught.value.cycles is None
+    with pytest.raises(toporank.GraphInputError, match="gather_limit must be at least 1"):
+        td.levels(frame(src, dst), client=client, on_cycle="report", gather_limit=0)

@@ -27,10 +27,10 @@ from ._schedule import (
 )
 from ._validate import (
     SCHEDULE_TIES,
-    positive_int,
     raise_cycle,
     random_seed,
     reference_key,
+    repeat_count,
     tie_list,
     worker_count,
 )
@@ -337,7 +337,7 @@ def compare(
         Task durations for the schedules and the ``"critical"`` priority
         (default: every task takes 1).
     repeat
-        Timed runs per policy (at least 1).
+        Timed runs per policy, from 1 to 1,000.
     seed
         Seed of the ``"random"`` policy; fixed by default so a comparison is
         reproducible (only the timings vary between runs).
@@ -380,7 +380,7 @@ def compare(
     """
     g = as_graph(graph, n)
     chosen = tie_list(ties)
-    runs = positive_int(repeat, "repeat")
+    runs = repeat_count(repeat)
     count = None if workers is None else worker_count(workers)
     key_array = reference_key(g, key, descending)
     rank = None if key_array is None else dense_rank(key_array, descending)

@@ -29,6 +29,7 @@ __all__ = [
     "PathCounts",
     "Schedule",
     "Violation",
+    "Witnesses",
     "_raise_error_kind",
     "bottom_levels",
     "check_csr",
@@ -36,6 +37,7 @@ __all__ = [
     "critical_path",
     "cut_cycles",
     "cycle_witness",
+    "cycle_witnesses",
     "edges_to_csr",
     "heights",
     "kahn_order",
@@ -299,6 +301,21 @@ class Cut:
     def removed(self) -> np.ndarray: ...
     @property
     def order(self) -> np.ndarray: ...
+    @property
+    def untested(self) -> int: ...
+
+@final
+class Witnesses:
+    @property
+    def labels(self) -> np.ndarray: ...
+    @property
+    def count(self) -> int: ...
+    @property
+    def components(self) -> np.ndarray: ...
+    @property
+    def offsets(self) -> np.ndarray: ...
+    @property
+    def nodes(self) -> np.ndarray: ...
 
 def strong_components(indptr: np.ndarray, indices: np.ndarray) -> Components: ...
 def condensation(indptr: np.ndarray, indices: np.ndarray) -> Condensation: ...
@@ -315,6 +332,7 @@ def cycle_witness(
     indptr: np.ndarray, indices: np.ndarray, through: int | None = None
 ) -> np.ndarray | None: ...
 def cut_cycles(indptr: np.ndarray, indices: np.ndarray) -> Cut: ...
+def cycle_witnesses(indptr: np.ndarray, indices: np.ndarray) -> Witnesses: ...
 
 __all__ += ["PeelStep", "peel_shard"]
 

@@ -395,7 +395,7 @@ nothing changed
             raise GraphInputError(f"{what} = {node!r} is not an integer node id") from None
         if not -(2**63) <= value < 2**63:
             raise GraphInputError(
-                f"{what} = {value} is not a node id; ids must lie in 0..{self.n} (n = {self.n})"
+                f"{what} = {value} is not a node id; ids must satisfy 0 <= id < {self.n}"
             )
         return value
 

@@ -14,6 +14,7 @@ import numpy as np
 
 import toporank
 
+from . import _core
 from ._errors import CyclicGraphError
 from ._graph import Graph
 
@@ -58,32 +59,30 @@ def cycle_report(g: Graph, *, witnesses: bool, limit: int | None = None) -> dict
 
     Components are listed largest first; ``limit`` caps how many get a witness.
     """
-    bare = plain(g)
-    labels = np.asarray(toporank.components(bare), dtype=np.int64)
-    sizes = np.bincount(labels, minlength=int(labels.max()) + 1 if len(labels) else 0)
-    rows = np.repeat(np.arange(g.n, dtype=np.int64), np.diff(g.indptr))
-    looped = np.zeros(len(sizes), dtype=bool)
-    looped[labels[rows[rows == g.indices]]] = True
-    cyclic = np.flatnonzero((sizes > 1) | looped)
-    cyclic = cyclic[np.argsort(-sizes[cyclic], kind="stable")]
+    found = _core.cycle_witnesses(g.indptr, g.indices)
+    sizes = np.bincount(np.asarray(found.labels, dtype=np.int64), minlength=found.count)
+    # The components holding a cycle (several nodes, or one with a self-loop).
+    cyclic = np.asarray(found.components, dtype=np.int64)
+    order = np.argsort(-sizes[cyclic], kind="stable")
     report: dict[str, Any] = {
         "cyclic_components": len(cyclic),
         "nodes_in_cycles": int(sizes[cyclic].sum()),
-        "component_sizes": sizes[cyclic].tolist(),
+        "component_sizes": sizes[cyclic[order]].tolist(),
     }
     if not witnesses:
         return report
-    first_node = np.full(len(sizes), -1, dtype=np.int64)
-    present, first_seen = np.unique(labels, return_index=True)
-    first_node[present] = first_seen
+    # One core call found a shortest cycle through the smallest node of
+    # every such component, in O(V + E) over all of them.
+    offsets = np.asarray(found.offsets)
+    nodes = np.asarray(found.nodes, dtype=np.int64)
     listed = []
-    for component in cyclic[:limit]:
-        cycle = toporank.cycle_witness(bare, through=int(first_node[component]))
+    for k in order[:limit]:
+        component = int(cyclic[k])
         listed.append(
             {
-                "component": int(component),
+                "component": component,
                 "size": int(sizes[component]),
-                "cycle": named(g, np.asarray(cycle if cycle is not None else [], dtype=np.int64)),
+                "cycle": named(g, nodes[offsets[k] : offsets[k + 1]]),
             }
         )
     report["components"] = listed
@@ -91,10 +90,15 @@ def cycle_report(g: Graph, *, witnesses: bool, limit: int | None = None) -> dict
 
 
 def cut_report(g: Graph) -> dict[str, Any]:
-    """The edges ``cut_cycles`` removes: sources, targets (as nodes) and input positions."""
+    """The edges ``cut_cycles`` removes: sources, targets (as nodes) and input positions.
+
+    ``untested`` counts the cut edges whose put-back test ran out of budget;
+    the cut is minimal when it is 0.
+    """
     cut = toporank.cut_cycles(plain(g))
     return {
         "count": len(cut),
+        "untested": cut.untested,
         "source": named(g, np.asarray(cut.sources, dtype=np.int64)),
         "target": named(g, np.asarray(cut.targets, dtype=np.int64)),
         "edge": np.asarray(cut.edge_index).tolist(),

@@ -79,6 +79,45 @@ def worker_count(workers: Any) -> int:
     )
 
 
+# More timed runs than this only repeat a median that stopped moving long
+# before, and a huge count (say 2**64) would run for ever.
+MAX_REPEAT = 1000
+
+
+def repeat_count(repeat: Any) -> int:
+    """Timed runs per policy of a comparison: a whole number in ``1..MAX_REPEAT``."""
+    runs = positive_int(repeat, "repeat")
+    if runs > MAX_REPEAT:
+        raise GraphInputError(
+            f"repeat = {runs} timed runs per policy is too many; it must satisfy "
+            f"1 <= repeat <= {MAX_REPEAT}"
+        )
+    return runs
+
+
+def distributed_on_cycle(on_cycle: Any) -> str:
+    """``on_cycle`` of ``toporank.distributed``: ``"raise"``, ``"mark"`` or ``"report"``."""
+    choices = ("raise", "mark", "report")
+    if not isinstance(on_cycle, str) or on_cycle not in choices:
+        raise GraphInputError(f"on_cycle must be one of {choices}, got {show(on_cycle)}")
+    return on_cycle
+
+
+def tie_column(tie: Any, nodes: Any) -> str | None:
+    """``tie`` of ``toporank.distributed.order``: None, or a column name of ``nodes``."""
+    if tie is None:
+        if nodes is not None:
+            raise GraphInputError("nodes gives tie-break keys; name the column with tie=")
+        return None
+    if not isinstance(tie, str) or not tie:
+        raise GraphInputError(f"tie must be a column name of nodes, got {show(tie)}")
+    if nodes is None:
+        raise GraphInputError(f"tie={tie!r} needs nodes=, the table holding that column")
+    if tie in ("node", "level", "position"):
+        raise GraphInputError(f"tie must not be {tie!r}: that column is the order's own")
+    return tie
+
+
 def node_count(n: Any) -> int:
     """A node count ``n``: a whole number in ``0..2**63 - 1``."""
     if isinstance(n, (bool, np.bool_)) or not isinstance(n, (int, np.integer)):
@@ -86,7 +125,7 @@ def node_count(n: Any) -> int:
     n = int(n)
     if not 0 <= n <= LARGEST_COUNT:
         raise GraphInputError(
-            f"n = {n} is not a node count; it must lie in 0..{LARGEST_COUNT} (2**63 - 1)"
+            f"n = {n} is not a node count; it must satisfy 0 <= n <= {LARGEST_COUNT} (2**63 - 1)"
         )
     return n
 
@@ -201,7 +240,7 @@ def random_seed(seed: Any) -> int:
         return int(np.random.SeedSequence().generate_state(1, np.uint64)[0])
     value = whole_number(seed, "seed")
     if not 0 <= value <= _UINT64_MAX:
-        raise GraphInputError(f"seed must lie in 0..2**64 - 1, got {value}")
+        raise GraphInputError(f"seed must satisfy 0 <= seed < 2**64, got {value}")
     return value
 
 
@@ -364,7 +403,7 @@ def node_argument(g: Graph, node: Any, name: str) -> int:
     value = int(node)
     if not 0 <= value < g.n:
         raise GraphInputError(
-            f"{name} = {value} is not a node id; ids must lie in 0..{g.n} (n = {g.n})"
+            f"{name} = {value} is not a node id; ids must satisfy 0 <= id < {g.n}"
         )
     return value
 

@@ -31,9 +31,10 @@ from typing import Any
 
 import numpy as np
 
-from . import _core
+from . import _core, _report
 from ._errors import GraphInputError
 from ._graph import Graph
+from ._validate import distributed_on_cycle, positive_int, tie_column
 
 try:
     import dask
@@ -63,15 +64,27 @@ class UnlevelledNodesError(GraphInputError):
         How many nodes were never levelled.
     sample : numpy.ndarray
         Up to ten of them, smallest ids first.
+    cycles : list of numpy.ndarray or None
+        With ``on_cycle="report"``: a shortest cycle (node ids, int64) in
+        each strongly connected component with a cycle among the unlevelled
+        nodes, largest component first; ``None`` otherwise, or when the
+        unlevelled part was too large to gather to the client.
     """
 
-    def __init__(self, count: int, sample: np.ndarray) -> None:
+    def __init__(
+        self, count: int, sample: np.ndarray, cycles: list[np.ndarray] | None = None, note: str = ""
+    ) -> None:
         self.count = count
         self.sample = sample
+        self.cycles = cycles
         shown = ", ".join(str(v) for v in sample)
+        found = ""
+        if cycles:
+            first = " -> ".join(str(v) for v in cycles[0][:12].tolist())
+            found = f"; {len(cycles)} cycle(s) found among them, e.g. {first} -> {cycles[0][0]}"
         super().__init__(
             f"{count} nodes lie on or behind a directed cycle and have no level "
-            f"(for example {shown}); pass on_cycle='mark' to get level -1 for them"
+            f"(for example {shown}){found}{note}; pass on_cycle='mark' to get level -1 for them"
         )
 
 
@@ -299,6 +312,76 @@ def _unlevelled(step: Any) -> tuple[int, np.ndarray]:
     return len(stuck), stuck[:SAMPLE] + shard["lo"]
 
 
+def _stuck_ids(step: Any) -> np.ndarray:
+    shard = step[0]
+    return np.flatnonzero(shard["remaining"] != 0) + shard["lo"]
+
+
+def _edges_among(part: Any, source: str, target: str, stuck: np.ndarray) -> Any:
+    """The edges of one input partition with both ends in ``stuck`` (sorted ids)."""
+    src = part[source].to_numpy().astype(np.int64, copy=False)
+    dst = part[target].to_numpy().astype(np.int64, copy=False)
+    keep = _member(src, stuck) & _member(dst, stuck)
+    return src[keep], dst[keep]
+
+
+def _member(ids: np.ndarray, sorted_ids: np.ndarray) -> np.ndarray:
+    at = np.minimum(np.searchsorted(sorted_ids, ids), max(len(sorted_ids) - 1, 0))
+    return sorted_ids[at] == ids if len(sorted_ids) else np.zeros(len(ids), dtype=bool)
+
+
+def _count_edges(pair: Any) -> int:
+    return len(pair[0])
+
+
+def _split_keys(part: Any, tie: str, block: int, shards: int, n: int) -> list[Any]:
+    """Tie keys of one node-table partition, grouped by the shard owning the node."""
+    node = part["node"].to_numpy().astype(np.int64, copy=False)
+    key = part[tie].reset_index(drop=True)
+    inside = np.flatnonzero((node >= 0) & (node < n))
+    owner = node[inside] // block
+    return [
+        (node[inside[owner == s]], key.iloc[inside[owner == s]].reset_index(drop=True))
+        for s in range(shards)
+    ]
+
+
+def _keyed(step: Any, *pieces: Any) -> Any:
+    """This shard's levelled nodes with their level and tie key."""
+    shard = step[0]
+    done = shard["remaining"] == 0
+    node = np.flatnonzero(done) + shard["lo"]
+    ids = np.concatenate([p[0] for p in pieces] + [np.empty(0, np.int64)])
+    if len(np.unique(ids)) != len(ids):
+        raise GraphInputError("nodes lists some node more than once; one row per node at most")
+    values = [p[1] for p in pieces if len(p[1])]
+    table = (
+        pd.Series(pd.concat(values, ignore_index=True).to_numpy(), index=ids) if values else None
+    )
+    frame = pd.DataFrame({"node": node, "level": shard["level"][done].astype(np.int64)})
+    frame["key"] = table.reindex(node).to_numpy() if table is not None else np.nan
+    return frame
+
+
+def _by_levels(frame: Any, cuts: np.ndarray) -> list[Any]:
+    by_level = frame.sort_values("level", kind="stable")
+    at = np.searchsorted(by_level["level"].to_numpy(), cuts)
+    return [by_level.iloc[a:b] for a, b in itertools.pairwise(at)]
+
+
+def _sort_part(start: int, tie: str, *pieces: Any) -> Any:
+    """One output partition: whole levels, sorted by level, tie key, node id."""
+    frame = pd.concat(pieces, ignore_index=True)
+    frame = frame.sort_values(["level", "key", "node"], na_position="last", kind="mergesort")
+    return pd.DataFrame(
+        {
+            "node": frame["node"].to_numpy(dtype=np.int64),
+            "level": frame["level"].to_numpy(dtype=np.int64),
+            "position": np.arange(start, start + len(frame), dtype=np.int64),
+        }
+    )
+
+
 def _level_counts(step: Any) -> np.ndarray:
     shard = step[0]
     done = shard["level"][shard["remaining"] == 0].astype(np.int64)
@@ -497,6 +580,97 @@ def peel(
     )
 
 
+def _remainder_cycles(
+    run: PeelRun, client: Any, edges: Any, source: str, target: str, limit: int
+) -> tuple[list[np.ndarray] | None, str]:
+    """Shortest cycles among the unlevelled nodes, found on the client when they fit.
+
+    The unlevelled ids are gathered only when there are at most ``limit`` of
+    them, and the edges among them only when those number at most ``limit``.
+    """
+    if run.unlevelled > limit:
+        return None, f"; {run.unlevelled} nodes are more than gather_limit = {limit}"
+    pieces = client.gather([client.submit(_stuck_ids, f) for f in run._finals])
+    stuck = np.sort(np.concatenate([*pieces, np.empty(0, np.int64)]))
+    frame = _edge_frame(edges, source, target)
+    shared = client.scatter(stuck, broadcast=True)
+    parts = client.compute(frame.to_delayed())
+    among = [client.submit(_edges_among, p, source, target, shared) for p in parts]
+    m = sum(client.gather([client.submit(_count_edges, a) for a in among]))
+    if m > limit:
+        return None, f"; the {m} edges among them are more than gather_limit = {limit}"
+    pairs = client.gather(among)
+    src = np.concatenate([p[0] for p in pairs] + [np.empty(0, np.int64)])
+    dst = np.concatenate([p[1] for p in pairs] + [np.empty(0, np.int64)])
+    # Ids renumbered 0..k-1 over the unlevelled nodes; the cycle tools of
+    # one machine find a shortest cycle in every cyclic component at once.
+    g = Graph.from_edges(np.searchsorted(stuck, src), np.searchsorted(stuck, dst), len(stuck))
+    found = _report.cycle_report(g, witnesses=True)
+    return [stuck[np.asarray(c["cycle"], dtype=np.int64)] for c in found["components"]], ""
+
+
+def _key_frame(nodes: Any, tie: str) -> Any:
+    """The ``node`` and ``tie`` columns of the node table given to :func:`order`."""
+    if isinstance(nodes, str) or hasattr(nodes, "__fspath__"):
+        frame = dd.read_parquet(str(nodes), columns=["node", tie])
+    elif isinstance(nodes, dd.DataFrame):
+        frame = nodes
+    else:
+        raise GraphInputError(
+            "nodes must be a Parquet dataset path (folder or glob) or a dask DataFrame, "
+            f"got {type(nodes).__name__}"
+        )
+    for column in ("node", tie):
+        if column not in frame.columns:
+            raise GraphInputError(
+                f"nodes have no column {column!r}; columns are {list(frame.columns)}"
+            )
+    dtype = frame["node"].dtype
+    if not _is_numpy(dtype) or np.dtype(dtype).kind not in "iu":
+        raise GraphInputError(
+            f"column 'node' of nodes has dtype {dtype}; node ids must be integers"
+        )
+    return frame[["node", tie]]
+
+
+def _order_by_key(run: PeelRun, client: Any, keys: Any, tie: str) -> Any:
+    """Levelled nodes in ``(level, tie, node)`` order, numbered 0, 1, ...
+
+    The keys travel to the shards owning their nodes; each output partition
+    takes a run of whole levels, gets those nodes from every shard and sorts
+    them. Nothing node-sized passes through the client.
+    """
+    shards = run._finals
+    block = max(1, math.ceil(run.n / len(shards)))
+    splits = [
+        client.submit(_split_keys, p, tie, block, len(shards), run.n)
+        for p in client.compute(keys.to_delayed())
+    ]
+    keyed = [
+        client.submit(_keyed, f, *[client.submit(operator.getitem, sp, s) for sp in splits])
+        for s, f in enumerate(shards)
+    ]
+    tables = client.gather([client.submit(_level_counts, f) for f in shards])
+    depth = max(len(t) for t in tables)
+    per_level = np.zeros(depth, dtype=np.int64)
+    for t in tables:
+        per_level[: len(t)] += t
+    level_start = np.concatenate([[0], np.cumsum(per_level)]).astype(np.int64)
+    total, parts = int(level_start[-1]), len(shards)
+    # Output partition d holds the levels cuts[d]..cuts[d + 1] - 1.
+    wanted = [total * k // parts for k in range(1, parts)]
+    cuts = np.unique(np.concatenate([[0], np.searchsorted(level_start, wanted), [depth]]))
+    sent = [client.submit(_by_levels, f, cuts) for f in keyed]
+    meta = pd.DataFrame({k: np.empty(0, np.int64) for k in ("node", "level", "position")})
+    outputs = []
+    for d in range(len(cuts) - 1):
+        pieces = [client.submit(operator.getitem, f, d) for f in sent]
+        outputs.append(client.submit(_sort_part, int(level_start[cuts[d]]), tie, *pieces))
+    if not outputs:
+        return dd.from_pandas(meta, npartitions=1)
+    return dd.from_delayed([dask.delayed(f) for f in outputs], meta=meta, verify_meta=False)
+
+
 def _home(workers: list[str], s: int) -> dict[str, Any]:
     """Spread shards over the workers, round robin (a preference, not a rule)."""
     if not workers:
@@ -504,12 +678,16 @@ def _home(workers: list[str], s: int) -> dict[str, Any]:
     return {"workers": [workers[s % len(workers)]], "allow_other_workers": True}
 
 
-def _checked(run: PeelRun, on_cycle: str) -> PeelRun:
-    if on_cycle not in ("raise", "mark"):
-        raise GraphInputError(f"on_cycle must be 'raise' or 'mark', got {on_cycle!r}")
+ON_CYCLE = ("raise", "mark", "report")
+
+
+def _checked(run: PeelRun, on_cycle: str, report: Any = None) -> PeelRun:
     if run.unlevelled:
         if on_cycle == "raise":
             raise UnlevelledNodesError(run.unlevelled, run.sample)
+        if on_cycle == "report":
+            cycles, note = report()
+            raise UnlevelledNodesError(run.unlevelled, run.sample, cycles, note)
         log.warning(
             "%d nodes lie on or behind a cycle (level -1), e.g. %s",
             run.unlevelled,
@@ -528,6 +706,7 @@ def levels(
     n: int | None = None,
     on_cycle: str = "raise",
     progress: bool = False,
+    gather_limit: int = 1_000_000,
 ) -> Any:
     """Return each node's level (longest path from a source, in edges) as a dask DataFrame.
 
@@ -541,7 +720,14 @@ def levels(
     on_cycle
         ``"raise"`` raises :class:`UnlevelledNodesError` (count and a sample
         of the nodes on or behind a cycle); ``"mark"`` gives them level -1
-        and logs a warning.
+        and logs a warning; ``"report"`` raises it with the cycles found: the
+        unlevelled part goes to the single-machine cycle tools on the client
+        when it fits (see ``gather_limit``), and the error's ``cycles`` holds
+        a shortest cycle of every strongly connected component with a cycle.
+    gather_limit
+        With ``on_cycle="report"``: the most unlevelled nodes, and the most
+        edges among them, gathered to the client (above it, ``cycles`` is
+        None and the message says why).
 
     Returns
     -------
@@ -568,17 +754,21 @@ def levels(
     [0, 1, 1, 2, 3]
     >>> client.close(); cluster.close()
     """
-    run = _checked(
-        peel(
-            edges,
-            client=client,
-            source=source,
-            target=target,
-            partitions=partitions,
-            n=n,
-            progress=progress,
-        ),
+    on_cycle = distributed_on_cycle(on_cycle)
+    limit = positive_int(gather_limit, "gather_limit")
+    run = peel(
+        edges,
+        client=client,
+        source=source,
+        target=target,
+        partitions=partitions,
+        n=n,
+        progress=progress,
+    )
+    _checked(
+        run,
         on_cycle,
+        lambda: _remainder_cycles(run, _client(client), edges, source, target, limit),
     )
     return run.levels
 
@@ -594,12 +784,15 @@ def order(
     on_cycle: str = "raise",
     progress: bool = False,
     to: str | None = None,
+    tie: str | None = None,
+    nodes: Any = None,
+    gather_limit: int = 1_000_000,
 ) -> Any:
-    """Return the level-major topological order: by level, then by node id.
+    """Return the level-major topological order: by level, then a tie key, then node id.
 
     Every edge goes from a lower level to a higher one, so sorting nodes by
-    ``(level, node id)`` is a topological order; nodes of one level are
-    independent of each other.
+    ``(level, tie key, node id)`` is a topological order whatever the key;
+    nodes of one level are independent of each other.
 
     Parameters
     ----------
@@ -607,10 +800,22 @@ def order(
         As in :func:`peel`.
     on_cycle
         ``"raise"`` raises :class:`UnlevelledNodesError`; ``"mark"`` leaves
-        the nodes on or behind a cycle out of the order (and logs a warning).
+        the nodes on or behind a cycle out of the order (and logs a warning);
+        ``"report"`` raises the error with the cycles found among them (see
+        :func:`levels`).
     to
         Write the result as a Parquet dataset to this folder and return the
         path instead of the frame.
+    tie
+        A column of ``nodes`` that orders the nodes of one level (ascending;
+        nodes without a row, or with a missing value, come last), then node
+        id. ``None``: node id alone.
+    nodes
+        With ``tie``: a dask DataFrame or Parquet dataset path with an
+        integer ``node`` column (one row per node at most) and the ``tie``
+        column. Rows of ids outside the graph are ignored.
+    gather_limit
+        As in :func:`levels`.
 
     Returns
     -------
@@ -631,7 +836,9 @@ def order(
     After the peel, each shard counts its nodes per level (a table of
     shards x levels goes to the client), learns where each of its levels
     starts, and sends its nodes to the output partition holding their
-    positions; no global sort is needed.
+    positions; no global sort is needed. With ``tie``, the levels are joined
+    with ``nodes`` and sorted by Dask (a shuffle of node-sized rows on the
+    workers), then numbered.
 
     Examples
     --------
@@ -644,21 +851,37 @@ def order(
     ...                        npartitions=2)
     >>> td.order(edges, client=client).compute()["node"].tolist()
     [3, 0, 1, 2]
+    >>> years = dd.from_pandas(pd.DataFrame({"node": [0, 1], "year": [2001, 1999]}),
+    ...                        npartitions=1)
+    >>> td.order(edges, client=client, tie="year", nodes=years).compute()["node"].tolist()
+    [3, 1, 0, 2]
     >>> client.close(); cluster.close()
     """
-    run = _checked(
-        peel(
-            edges,
-            client=client,
-            source=source,
-            target=target,
-            partitions=partitions,
-            n=n,
-            progress=progress,
-        ),
+    on_cycle = distributed_on_cycle(on_cycle)
+    limit = positive_int(gather_limit, "gather_limit")
+    tie = tie_column(tie, nodes)
+    keys = None if tie is None else _key_frame(nodes, tie)
+    run = peel(
+        edges,
+        client=client,
+        source=source,
+        target=target,
+        partitions=partitions,
+        n=n,
+        progress=progress,
+    )
+    _checked(
+        run,
         on_cycle,
+        lambda: _remainder_cycles(run, _client(client), edges, source, target, limit),
     )
     client = _client(client)
+    if keys is not None and tie is not None:
+        result = _order_by_key(run, client, keys, tie)
+        if to is not None:
+            result.to_parquet(to, write_index=False)
+            return to
+        return result
     shards = run._finals
     tables = client.gather([client.submit(_level_counts, f) for f in shards])
     depth = max(len(t) for t in tables)

@@ -82,7 +82,13 @@ def render(report: dict[str, Any], limit: int) -> str:
     if cut is not None and cut["count"] == 0:
         lines.append("no edges to cut: the graph is a DAG")
     elif cut is not None:
-        lines.append(f"{cut['count']} edge(s) to cut for a DAG:")
+        untested = cut.get("untested", 0)
+        minimal = (
+            "minimal: putting back any one closes a cycle"
+            if untested == 0
+            else f"{untested} left untested, so it may not be minimal"
+        )
+        lines.append(f"{cut['count']} edge(s) to cut for a DAG ({minimal}):")
         for u, v in list(zip(cut["source"], cut["target"], strict=True))[:limit]:
             lines.append(f"  {u} -> {v}")
         if cut["count"] > limit:

@@ -66,7 +66,7 @@ impl fmt::Display for Error {
             ),
             Error::IndexOutOfRange { what, position, value, n } => write!(
                 f,
-                "{what}[{position}] = {value} is not a node id; ids must lie in 0..{n} (n = {n})"
+                "{what}[{position}] = {value} is not a node id; ids must satisfy 0 <= id < {n}"
             ),
             Error::LengthMismatch { what, expected, got } => {
                 write!(f, "{what} has length {got}, expected {expected}")
@@ -92,7 +92,7 @@ impl fmt::Display for Error {
                 write!(f, "could not start {threads} worker threads: {reason}")
             }
             Error::NoSuchNode { what, value, n } => {
-                write!(f, "{what} = {value} is not a node id; ids must lie in 0..{n} (n = {n})")
+                write!(f, "{what} = {value} is not a node id; ids must satisfy 0 <= id < {n}")
             }
             Error::Allocation { what, count, bytes_each } => {
                 let bytes = (*count as u128) * (*bytes_each as u128);

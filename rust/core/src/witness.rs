@@ -80,6 +80,109 @@ pub fn find_cycle<I: Idx, P: Idx>(csr: &Csr<'_, I, P>) -> Result<Option<Vec<I>>,
     }
 }
 
+/// The strongly connected components of a graph and one shortest cycle in
+/// each component that holds a cycle (more than one node, or a self-loop).
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub struct Witnesses<I> {
+    /// Component of every node, numbered as [`strong_components`] does.
+    pub labels: Vec<I>,
+    /// Number of components.
+    pub count: usize,
+    /// The components holding a cycle, ascending.
+    pub components: Vec<I>,
+    /// The witness of `components[k]` is `nodes[offsets[k]..offsets[k + 1]]`.
+    pub offsets: Vec<usize>,
+    /// The witness cycles one after another, each starting at its node.
+    pub nodes: Vec<I>,
+}
+
+/// For every strongly connected component holding a cycle, a shortest cycle
+/// through its smallest node id, the same cycle [`shortest_cycle_through`]
+/// returns for that node.
+///
+/// Each breadth-first search follows only the edges inside its own
+/// component, so every node is dequeued once and every row scanned once
+/// over all components: O(V + E) in total, however many components there
+/// are.
+pub fn component_witnesses<I: Idx>(csr: &Csr<'_, I>) -> Result<Witnesses<I>, Error> {
+    csr.check_indices()?;
+    let n = csr.n();
+    let found = strong_components(csr)?;
+    let sizes = found.try_sizes()?;
+    let labels = &found.labels;
+    // first[c]: the smallest node of component c (n while none seen yet).
+    let mut first = alloc::filled("component first nodes", found.count, n)?;
+    for (v, label) in labels.iter().enumerate() {
+        let slot = &mut first[label.to_usize()];
+        if *slot == n {
+            *slot = v;
+        }
+    }
+    let unseen = I::from_usize(n);
+    // Components are disjoint and every search stays inside its own, so
+    // the parents never need resetting between searches.
+    let mut parent = alloc::filled("cycle search parents", n, unseen)?;
+    let mut queue: Vec<usize> = alloc::with_capacity("cycle search queue", n)?;
+    let mut components: Vec<I> = Vec::new();
+    let mut offsets: Vec<usize> = alloc::with_capacity("witness offsets", 1)?;
+    offsets.push(0);
+    // The witnesses are disjoint simple cycles: n nodes at most.
+    let mut nodes: Vec<I> = alloc::with_capacity("witness nodes", n)?;
+    let mut ticker = Ticker::new();
+    for (c, &start) in first.iter().enumerate() {
+        ticker.tick()?;
+        if start >= n {
+            continue;
+        }
+        let label = I::from_usize(c);
+        if sizes[c].to_usize() < 2 {
+            let row = csr.row(start);
+            ticker.tick_by(row.len())?;
+            if !row.iter().any(|w| w.to_usize() == start) {
+                continue;
+            }
+        }
+        parent[start] = I::from_usize(start);
+        queue.clear();
+        queue.push(start);
+        let mut head = 0;
+        let mut closed = None;
+        'search: while head < queue.len() {
+            let u = queue[head];
+            head += 1;
+            let row = csr.row(u);
+            ticker.tick_by(row.len() + 1)?;
+            for &w in row {
+                let w = w.to_usize();
+                if labels[w] != label {
+                    continue;
+                }
+                if w == start {
+                    closed = Some(u);
+                    break 'search;
+                }
+                if parent[w] == unseen {
+                    parent[w] = I::from_usize(u);
+                    queue.push(w);
+                }
+            }
+        }
+        let Some(mut x) = closed else {
+            return Err(Error::Internal { reason: "a cyclic component without a cycle".into() });
+        };
+        let from = nodes.len();
+        while x != start {
+            nodes.push(I::from_usize(x));
+            x = parent[x].to_usize();
+        }
+        nodes.push(I::from_usize(start));
+        nodes[from..].reverse();
+        components.push(label);
+        offsets.push(nodes.len());
+    }
+    Ok(Witnesses { labels: found.labels, count: found.count, components, offsets, nodes })
+}
+
 #[cfg(test)]
 // Reachability and distance matrices read best with explicit indices.
 #[allow(clippy::needless_range_loop)]
@@ -166,5 +269,32 @@ mod tests {
             Error::NoSuchNode { what: "through", value: 2, n: 2 }
         );
         assert!(shortest_cycle_through(&g, -1).is_err());
+    }
+
+    #[test]
+    fn component_witnesses_match_the_search_through_each_first_node() {
+        let mut rng = SplitMix64::new(47);
+        for _ in 0..400 {
+            let (indptr, indices) = random_csr(&mut rng, 12, 24);
+            let g = Csr::new(&indptr, &indices).unwrap();
+            let found = component_witnesses(&g).unwrap();
+            assert_eq!(found.labels, strong_components(&g).unwrap().labels);
+            assert_eq!(found.offsets.len(), found.components.len() + 1);
+            let mut expected = Vec::new();
+            for c in 0..found.count {
+                let start = (0..g.n()).find(|&v| found.labels[v] as usize == c).unwrap();
+                if let Some(cycle) = shortest_cycle_through(&g, start as i128).unwrap() {
+                    expected.push((c as i64, cycle));
+                }
+            }
+            let got: Vec<(i64, Vec<i64>)> = (0..found.components.len())
+                .map(|k| {
+                    let cycle = found.nodes[found.offsets[k]..found.offsets[k + 1]].to_vec();
+                    assert_cycle(&g, &cycle);
+                    (found.components[k], cycle)
+                })
+                .collect();
+            assert_eq!(got, expected);
+        }
     }
 }

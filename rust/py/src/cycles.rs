@@ -177,6 +177,47 @@ fn cycle_witness<'py>(
     on_graph(py, indptr, indices, CycleWitness { through })
 }
 
+/// Components and one shortest cycle in each component holding a cycle.
+#[pyclass(frozen, get_all, module = "toporank._core")]
+struct Witnesses {
+    /// Component of every node.
+    labels: Py<PyAny>,
+    count: usize,
+    /// The components holding a cycle, ascending.
+    components: Py<PyAny>,
+    /// The witness of `components[k]` is `nodes[offsets[k]:offsets[k + 1]]` (int64).
+    offsets: Py<PyAny>,
+    nodes: Py<PyAny>,
+}
+
+struct WitnessesOf;
+
+impl<'py> OnGraph<'py> for WitnessesOf {
+    type Output = Witnesses;
+    fn run<I: Index>(self, py: Python<'py>, indptr: &[I], indices: &[I]) -> PyResult<Witnesses> {
+        let found = compute(py, || witness::component_witnesses(&Csr::new(indptr, indices)?))?;
+        let offsets: Vec<i64> = found.offsets.into_iter().map(|k| k as i64).collect();
+        Ok(Witnesses {
+            labels: array(py, found.labels),
+            count: found.count,
+            components: array(py, found.components),
+            offsets: array(py, offsets),
+            nodes: array(py, found.nodes),
+        })
+    }
+}
+
+/// A shortest cycle through the smallest node of every strongly connected
+/// component holding a cycle, in one pass (a `Witnesses`).
+#[pyfunction]
+fn cycle_witnesses<'py>(
+    py: Python<'py>,
+    indptr: &Bound<'py, PyAny>,
+    indices: &Bound<'py, PyAny>,
+) -> PyResult<Witnesses> {
+    on_graph(py, indptr, indices, WitnessesOf)
+}
+
 /// A minimal cycle cut.
 #[pyclass(frozen, get_all, module = "toporank._core")]
 struct Cut {
@@ -184,6 +225,9 @@ struct Cut {
     removed: Py<PyAny>,
     /// A topological order of the graph without them.
     order: Py<PyAny>,
+    /// Cut edges whose put-back test ran out of search budget; the cut is
+    /// minimal when this is 0.
+    untested: usize,
 }
 
 struct CutOf;
@@ -198,7 +242,11 @@ impl<'py> OnGraph<'py> for CutOf {
     ) -> PyResult<Cut> {
         let found = compute(py, || cut::cut_cycles(&Csr::from_arrays(indptr, indices)?))?;
         let removed: Vec<i64> = found.removed.into_iter().map(|k| k as i64).collect();
-        Ok(Cut { removed: array(py, removed), order: array(py, found.order) })
+        Ok(Cut {
+            removed: array(py, removed),
+            order: array(py, found.order),
+            untested: found.untested,
+        })
     }
 }
 
@@ -216,10 +264,12 @@ pub(crate) fn register(m: &Bound<'_, PyModule>) -> PyResult<()> {
     m.add_class::<Components>()?;
     m.add_class::<Condensation>()?;
     m.add_class::<Cut>()?;
+    m.add_class::<Witnesses>()?;
     m.add_function(wrap_pyfunction!(strong_components, m)?)?;
     m.add_function(wrap_pyfunction!(condensation, m)?)?;
     m.add_function(wrap_pyfunction!(order_despite_cycles, m)?)?;
     m.add_function(wrap_pyfunction!(cycle_witness, m)?)?;
+    m.add_function(wrap_pyfunction!(cycle_witnesses, m)?)?;
     m.add_function(wrap_pyfunction!(cut_cycles, m)?)?;
     Ok(())
 }
