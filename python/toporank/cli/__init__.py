@@ -1,8 +1,8 @@
 """The ``toporank`` command: order, levels, cycles, verify and compare graphs stored in files.
 
 One module per subcommand (:mod:`.order`, :mod:`.levels`, :mod:`.cycles`,
-:mod:`.verify`, :mod:`.compare`, :mod:`.pack`, :mod:`.mainpath`, :mod:`.demo`) over :mod:`.options` (the
-option vocabulary, declared once as argparse parent parsers) and
+:mod:`.verify`, :mod:`.compare`, :mod:`.pack`, :mod:`.mainpath`, :mod:`.demo`) over
+:mod:`.options` (the option vocabulary, declared once as argparse parent parsers) and
 :mod:`.output` (exit statuses, messages, writing).
 
 Exit status: 0 success; 1 a cycle was found (``order``, ``levels`` and

@@ -104,7 +104,7 @@ pub struct Witnesses<I> {
 /// component, so every node is dequeued once and every row scanned once
 /// over all components: O(V + E) in total, however many components there
 /// are.
-pub fn component_witnesses<I: Idx>(csr: &Csr<'_, I>) -> Result<Witnesses<I>, Error> {
+pub fn component_witnesses<I: Idx, P: Idx>(csr: &Csr<'_, I, P>) -> Result<Witnesses<I>, Error> {
     csr.check_indices()?;
     let n = csr.n();
     let found = strong_components(csr)?;

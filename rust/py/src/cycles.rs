@@ -194,8 +194,14 @@ struct WitnessesOf;
 
 impl<'py> OnGraph<'py> for WitnessesOf {
     type Output = Witnesses;
-    fn run<I: Index>(self, py: Python<'py>, indptr: &[I], indices: &[I]) -> PyResult<Witnesses> {
-        let found = compute(py, || witness::component_witnesses(&Csr::new(indptr, indices)?))?;
+    fn run<I: Index, P: Index>(
+        self,
+        py: Python<'py>,
+        indptr: &[P],
+        indices: &[I],
+    ) -> PyResult<Witnesses> {
+        let found =
+            compute(py, || witness::component_witnesses(&Csr::from_arrays(indptr, indices)?))?;
         let offsets: Vec<i64> = found.offsets.into_iter().map(|k| k as i64).collect();
         Ok(Witnesses {
             labels: array(py, found.labels),
