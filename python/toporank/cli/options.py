@@ -210,9 +210,10 @@ def read_input(args: argparse.Namespace) -> Graph:
         progress=not args.quiet and sys.stderr is not None,
         note=lambda message: note(args, message),
         spill_dir=spill_folder(args),
-        # edges are named by input position only when cut: elsewhere save the memory
+        # edges are named by input position only when cut or reported by edge
+        # (main paths): elsewhere save the memory
         edge_positions=getattr(args, "on_cycle", None) == "cut"
         or bool(getattr(args, "cut", False))
-        or args.command == "pack",
+        or args.command in ("pack", "mainpath"),
     )
     return read_graph(args.file, options)

@@ -42,7 +42,7 @@ __all__ = ["read_saved", "save_graph"]
 
 FORMAT = "toporank saved graph"
 VERSION = 1
-_WIDTHS = ("int32", "int64")
+_WIDTHS = {"indptr": ("int32", "int64"), "indices": ("int32", "int64", "uint32")}
 _DESCRIPTION_BYTES = 1 << 20
 
 
@@ -204,10 +204,10 @@ def _description(folder: str) -> dict[str, Any]:
                 folder, f"{SAVED_DESCRIPTION}: {key} must be a count >= 0, got {value!r}"
             )
     for key in ("indptr", "indices"):
-        if description.get(key) not in _WIDTHS:
+        if description.get(key) not in _WIDTHS[key]:
             raise GraphFileError(
                 folder,
-                f"{SAVED_DESCRIPTION}: {key} must be one of {_WIDTHS}, "
+                f"{SAVED_DESCRIPTION}: {key} must be one of {_WIDTHS[key]}, "
                 f"got {description.get(key)!r}",
             )
     for key in ("positions", "labels"):
