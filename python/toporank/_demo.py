@@ -160,6 +160,8 @@ def shell_commands(out: str) -> list[str]:
         f"toporank levels {d}/monorepo-imports-cut.csv --columns imports,module",
         f"toporank compare {d}/journal-citations.tsv --columns cited,citing --key "
         f"{d}/journal-years.tsv --workers 4 --on-cycle cut{plot}",
+        f"toporank mainpath {d}/journal-citations.tsv --columns cited,citing "
+        f"--on-cycle preprint -o {d}/mainpath.csv",
     ]
 
 
