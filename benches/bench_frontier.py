@@ -19,7 +19,7 @@ Run: ``pytest benches/bench_frontier.py --benchmark-enable -s``;
 from __future__ import annotations
 
 import pytest
-from conftest import SMALL, interleaved, scaled
+from conftest import interleaved, scaled
 
 import toporank
 from toporank._synthetic import citation_dag
