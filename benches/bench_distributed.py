@@ -32,7 +32,7 @@ pytest.importorskip(
 
 import pandas as pd
 import pyarrow.parquet as pq
-from distributed import Client, LocalCluster
+from distributed import Client
 
 import toporank.distributed as td
 
@@ -54,13 +54,7 @@ def dataset(tmp_path_factory):
 
 @pytest.fixture(scope="module")
 def client():
-    cluster = LocalCluster(
-        n_workers=2,
-        threads_per_worker=1,
-        processes=True,
-        host="127.0.0.1",
-        dashboard_address=None,
-    )
+    cluster = td._loopback_cluster(n_workers=2, threads_per_worker=1)
     c = Client(cluster)
     yield c
     c.close()

@@ -18,7 +18,7 @@ pytest.importorskip(
 
 import dask.dataframe as dd
 import pandas as pd
-from distributed import Client, LocalCluster
+from distributed import Client
 
 import toporank.distributed as td
 
@@ -26,13 +26,7 @@ import toporank.distributed as td
 @pytest.fixture(scope="session")
 def client():
     # Loopback only and no dashboard: nothing listens beyond this machine.
-    cluster = LocalCluster(
-        n_workers=2,
-        threads_per_worker=1,
-        processes=True,
-        host="127.0.0.1",
-        dashboard_address=None,
-    )
+    cluster = td._loopback_cluster(n_workers=2, threads_per_worker=1)
     c = Client(cluster)
     yield c
     c.close()

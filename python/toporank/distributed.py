@@ -133,12 +133,17 @@ def _client(client: Any) -> Any:
         pass
     if not _started:
         # Loopback only, no dashboard: nothing listens beyond this machine.
-        cluster = LocalCluster(host="127.0.0.1", dashboard_address=None)
+        cluster = _loopback_cluster()
         started = Client(cluster)
         _started.extend([started, cluster])
         atexit.register(_close_started)
         log.info("started a local Dask cluster: %s", cluster)
     return _started[0]
+
+
+def _loopback_cluster(**workers: Any) -> Any:
+    """A process-based LocalCluster bound to 127.0.0.1 with no dashboard."""
+    return LocalCluster(host="127.0.0.1", dashboard_address=None, processes=True, **workers)
 
 
 def _close_started() -> None:
@@ -681,6 +686,34 @@ def _home(workers: list[str], s: int) -> dict[str, Any]:
 ON_CYCLE = ("raise", "mark", "report")
 
 
+def _peeled(
+    edges: Any,
+    client: Any,
+    source: str,
+    target: str,
+    partitions: Any,
+    n: Any,
+    progress: bool,
+    on_cycle: str,
+    limit: int,
+) -> PeelRun:
+    """The peel of ``edges``, its unlevelled nodes handled as ``on_cycle`` says."""
+    run = peel(
+        edges,
+        client=client,
+        source=source,
+        target=target,
+        partitions=partitions,
+        n=n,
+        progress=progress,
+    )
+    return _checked(
+        run,
+        on_cycle,
+        lambda: _remainder_cycles(run, _client(client), edges, source, target, limit),
+    )
+
+
 def _checked(run: PeelRun, on_cycle: str, report: Any = None) -> PeelRun:
     if run.unlevelled:
         if on_cycle == "raise":
@@ -756,20 +789,7 @@ def levels(
     """
     on_cycle = distributed_on_cycle(on_cycle)
     limit = positive_int(gather_limit, "gather_limit")
-    run = peel(
-        edges,
-        client=client,
-        source=source,
-        target=target,
-        partitions=partitions,
-        n=n,
-        progress=progress,
-    )
-    _checked(
-        run,
-        on_cycle,
-        lambda: _remainder_cycles(run, _client(client), edges, source, target, limit),
-    )
+    run = _peeled(edges, client, source, target, partitions, n, progress, on_cycle, limit)
     return run.levels
 
 
@@ -861,20 +881,7 @@ def order(
     limit = positive_int(gather_limit, "gather_limit")
     tie = tie_column(tie, nodes)
     keys = None if tie is None else _key_frame(nodes, tie)
-    run = peel(
-        edges,
-        client=client,
-        source=source,
-        target=target,
-        partitions=partitions,
-        n=n,
-        progress=progress,
-    )
-    _checked(
-        run,
-        on_cycle,
-        lambda: _remainder_cycles(run, _client(client), edges, source, target, limit),
-    )
+    run = _peeled(edges, client, source, target, partitions, n, progress, on_cycle, limit)
     client = _client(client)
     if keys is not None and tie is not None:
         result = _order_by_key(run, client, keys, tie)
