@@ -40,6 +40,7 @@ __all__ = [
     "cycle_witnesses",
     "edges_to_csr",
     "heights",
+    "input_positions_of",
     "kahn_order",
     "levels",
     "list_schedule",
@@ -107,6 +108,7 @@ def kahn_order(
 def edges_to_csr(
     src: np.ndarray, dst: np.ndarray, n: int, with_edge_ids: bool = False
 ) -> CsrArrays: ...
+def input_positions_of(src: np.ndarray, indptr: np.ndarray, stored: np.ndarray) -> np.ndarray: ...
 def verify_order(
     indptr: np.ndarray, indices: np.ndarray, order: np.ndarray
 ) -> Violation | None: ...
@@ -299,6 +301,8 @@ class Condensation:
 class Cut:
     @property
     def removed(self) -> np.ndarray: ...
+    @property
+    def sources(self) -> np.ndarray: ...
     @property
     def order(self) -> np.ndarray: ...
     @property

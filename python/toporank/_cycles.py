@@ -292,10 +292,12 @@ def cut_cycles(graph: Any, *, method: str = "greedy", n: int | None = None) -> C
     backwards in it are removed. For a connected graph without 2-cycles that
     removes at most ``m/2 - n/6`` edges. A put-back pass then tries, in
     order, to reinsert every removed edge that closes no cycle, maintaining
-    the order with the Pearce-Kelly insertion algorithm. The searches of that
-    pass share a budget of four times the nodes plus edges of the cyclic
-    components; an edge whose test runs out of it stays removed untested and
-    is counted in ``untested``. When ``untested`` is 0 (always so for cyclic
+    the order with the Pearce-Kelly insertion algorithm, nearest candidates
+    first (by the distance between their ends in the sequence). The searches
+    of that pass share a budget of the nodes plus edges of the cyclic
+    components, and no test is started once few of the recent ones reached a
+    verdict; an edge whose test runs out of budget or is not started stays
+    removed untested and is counted in ``untested``. When ``untested`` is 0 (always so for cyclic
     components totalling at most 4,096 nodes and edges) the result is
     minimal: putting back any single removed edge creates a cycle. Otherwise
     every removed edge still lies on a cycle of the input, and every tested
@@ -325,16 +327,11 @@ def cut_cycles(graph: Any, *, method: str = "greedy", n: int | None = None) -> C
         raise GraphInputError(f"method must be one of {CUT_METHODS}, got {method!r}")
     g = as_graph(graph, n)
     found = _core.cut_cycles(g.indptr, g.indices)
-    removed, order = found.removed, found.order
-    sources = np.searchsorted(g.indptr, removed, side="right") - 1
-    targets = g.indices[removed].astype(np.int64)
-    input_positions = g.edge_input_positions()
-    edge_index = removed if input_positions is None else input_positions[removed].astype(np.int64)
-    by_input = np.argsort(edge_index, kind="stable")
+    edge_index, sources, targets = g.edges_in_input_order(found.removed, found.sources)
     return CycleCut(
-        as_nodes(g, sources[by_input]),
-        as_nodes(g, targets[by_input]),
-        edge_index[by_input],
-        as_nodes(g, order),
+        as_nodes(g, sources),
+        as_nodes(g, targets),
+        edge_index,
+        as_nodes(g, found.order),
         int(found.untested),
     )

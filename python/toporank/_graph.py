@@ -112,6 +112,30 @@ class Graph:
         src, dst = self._edges
         return _core.edges_to_csr(src, dst, self.n, True).edge_ids
 
+    def edges_in_input_order(
+        self, stored: np.ndarray, sources: np.ndarray
+    ) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+        """Some stored edges, ordered by input position.
+
+        ``stored`` are ascending stored positions (int64) and ``sources`` their
+        source nodes. Returns ``(edge_index, sources, targets)`` ordered by
+        ``edge_index``, the input positions (see :meth:`edge_input_positions`),
+        in time linear in the edges without building every edge's position
+        when the graph keeps its edge list.
+        """
+        if self._positions is None and not self._positions_dropped and self._edges is not None:
+            src, dst = self._edges
+            index = _core.input_positions_of(src, self.indptr, stored)
+            return index, src[index].astype(np.int64), dst[index].astype(np.int64)
+        targets = self.indices[stored].astype(np.int64)
+        sources = sources.astype(np.int64, copy=False)
+        positions = self.edge_input_positions()
+        if positions is None:
+            return stored, sources, targets
+        index = positions[stored].astype(np.int64)
+        by_input = np.argsort(index, kind="stable")
+        return index[by_input], sources[by_input], targets[by_input]
+
     @classmethod
     def from_csr(cls, indptr: Any, indices: Any) -> Graph:
         """A graph from CSR arrays (``indptr`` of length ``n + 1``)."""

@@ -16,13 +16,20 @@
 //!      which is Kahn's algorithm that, when stuck, starts from the node
 //!      closest to being a source. On a DAG with a few back edges it finds
 //!      the back edges where the degree difference wanders off.
-//! 3. Put-back pass: each cut edge, in stored order, is reinserted when that
-//!    keeps the graph acyclic, keeping a topological order up to date with
-//!    the Pearce–Kelly insertion algorithm (D. J. Pearce & P. H. J. Kelly, "A
-//!    dynamic topological sort algorithm for directed acyclic graphs", ACM
-//!    JEA 11, 2006). Reinsertion only adds paths, so an edge refused once is
-//!    refused forever. The cut edges are exactly the edges that go
-//!    backwards in the final order.
+//!
+//!    The bins are stacks with lazy deletion: a node whose degree changes is
+//!    pushed again onto its new bin and its old entry is skipped when
+//!    reached, which takes the node state of one node from one cache line.
+//! 3. Put-back pass: cut edges are reinserted when that keeps the graph
+//!    acyclic, keeping a topological order up to date with the Pearce–Kelly
+//!    insertion algorithm (D. J. Pearce & P. H. J. Kelly, "A dynamic
+//!    topological sort algorithm for directed acyclic graphs", ACM JEA 11,
+//!    2006). Reinsertion only adds paths, so an edge refused once is refused
+//!    forever. The cut edges are exactly the edges that go backwards in the
+//!    final order. Candidates are tried in order of how far apart their ends
+//!    are in the sequence (by powers of two, stored order within one class):
+//!    the search of an edge is confined to the positions between its ends,
+//!    so the cheap tests come first.
 //!
 //! Steps 1–2 are O(V + E). The put-back test of an edge `x -> y` searches
 //! forward from `y` and backward from `x` in turns, each side confined to
@@ -31,21 +38,28 @@
 //! cycle: the edge goes back, and the other side is completed for the
 //! reordering).
 //!
-//! The whole pass has a search budget of four times the number of nodes plus
-//! edges of the non-trivial components (a test may spend up to four times
-//! an even share of what is left, and is not started with less than 64); a
-//! test that runs out or is not started leaves its edge cut and is counted
-//! in [`Cut::untested`]. So the pass is O((V + E) log(V + E))
-//! (the log from sorting the reordered nodes). When `untested` is zero,
-//! which is always the case for components totalling at most 4,096 nodes
-//! and edges, the cut is minimal: putting back any single cut edge closes a
-//! cycle. Otherwise every cut edge still lies on a cycle of the input and
-//! every tested one closes a cycle with the kept edges.
+//! The whole pass has a search budget of [`PUT_BACK_WORK`] times the number
+//! of nodes plus edges of the non-trivial components. A test may spend four
+//! times an even share of what is left, and at least [`PUT_BACK_LEAST`];
+//! once the budget is spent no test is started. A test that runs out or is
+//! not started leaves its edge cut and is counted in [`Cut::untested`]. So
+//! the pass is O((V + E) log(V + E)) (the log from sorting the reordered
+//! nodes). When `untested` is zero, which is always the case for components
+//! totalling at most 4,096 nodes and edges, the cut is minimal: putting back
+//! any single cut edge closes a cycle. Otherwise every cut edge still lies
+//! on a cycle of the input and every tested one closes a cycle with the kept
+//! edges. On graphs that are one large random tangle (uniform random edges,
+//! about a third of them cut) almost every candidate is untested: deciding
+//! them would take a search through much of the graph each.
+//!
+//! Inside the components nodes and edges are renumbered with 32-bit ids when
+//! the graph has fewer than 2^30 edges, 64-bit ids otherwise.
 
 use crate::alloc;
 use crate::interrupt::Ticker;
 use crate::kahn::{kahn, Tie};
 use crate::scc::strong_components;
+use crate::sweep::prefetch;
 use crate::{Csr, Error, Idx};
 
 /// The outcome of [`cut_cycles`].
@@ -53,6 +67,8 @@ use crate::{Csr, Error, Idx};
 pub struct Cut<I> {
     /// Stored (CSR) positions of the cut edges, ascending.
     pub removed: Vec<usize>,
+    /// The source node of each cut edge.
+    pub sources: Vec<I>,
     /// A topological order of the graph without the cut edges: components
     /// in label order (see [`strong_components`]), members in the order the
     /// cut was built from. Exactly the cut edges go backwards in it.
@@ -63,139 +79,203 @@ pub struct Cut<I> {
     pub untested: usize,
 }
 
-/// The edges inside the non-trivial components, renumbered locally, with
-/// forward and reverse adjacency.
-struct Inner {
+/// The edges inside the non-trivial components, renumbered locally with ids
+/// of width `L`, with forward and reverse adjacency.
+struct Inner<I, P, L> {
     /// Local node -> global node id.
-    global: Vec<usize>,
-    fwd_start: Vec<usize>,
-    fwd_target: Vec<usize>,
+    global: Vec<I>,
+    fwd_start: Vec<L>,
+    fwd_target: Vec<L>,
     /// Stored position of each local edge in the input CSR.
-    fwd_position: Vec<usize>,
-    rev_start: Vec<usize>,
-    rev_source: Vec<usize>,
+    fwd_position: Vec<P>,
+    rev_start: Vec<L>,
+    rev_source: Vec<L>,
     /// Reverse entry -> local edge number.
-    rev_edge: Vec<usize>,
+    rev_edge: Vec<L>,
 }
 
-impl Inner {
+impl<I: Idx, P: Idx, L: Idx> Inner<I, P, L> {
     fn nodes(&self) -> usize {
         self.global.len()
     }
 
-    fn out_edges(&self, u: usize) -> std::ops::Range<usize> {
-        self.fwd_start[u]..self.fwd_start[u + 1]
+    fn edges(&self) -> usize {
+        self.fwd_target.len()
     }
 
-    fn in_entries(&self, u: usize) -> std::ops::Range<usize> {
-        self.rev_start[u]..self.rev_start[u + 1]
+    #[inline(always)]
+    fn out_edges(&self, u: usize) -> std::ops::Range<usize> {
+        self.fwd_start[u].to_usize()..self.fwd_start[u + 1].to_usize()
     }
+
+    #[inline(always)]
+    fn in_entries(&self, u: usize) -> std::ops::Range<usize> {
+        self.rev_start[u].to_usize()..self.rev_start[u + 1].to_usize()
+    }
+
+    #[inline(always)]
+    fn target(&self, e: usize) -> usize {
+        self.fwd_target[e].to_usize()
+    }
+
+    #[inline(always)]
+    fn source_of_entry(&self, r: usize) -> usize {
+        self.rev_source[r].to_usize()
+    }
+}
+
+/// The largest value of `L`, used as "none".
+fn none<L: Idx>() -> L {
+    L::from_usize(L::MAX_USIZE)
 }
 
 /// A minimal set of edges of `csr` whose removal leaves a DAG, and a
 /// topological order of what remains (see the module documentation).
 ///
 /// Returns [`Error::Interrupted`] when the interrupt hook asks to stop
-/// (checked about every 0.1 s).
+/// (checked about every 0.1 s), and [`Error::InputChanged`] when the arrays
+/// change during the call.
 pub fn cut_cycles<I: Idx, P: Idx>(csr: &Csr<'_, I, P>) -> Result<Cut<I>, Error> {
+    // Local node ids, edge numbers, ranks, search rounds and bin numbers
+    // (up to 3 + 2 x edges) all stay below 4 x edges.
+    if csr.m() < (u32::MAX as usize) / 4 {
+        cut_with::<I, P, u32>(csr)
+    } else {
+        cut_with::<I, P, u64>(csr)
+    }
+}
+
+fn cut_with<I: Idx, P: Idx, L: Idx>(csr: &Csr<'_, I, P>) -> Result<Cut<I>, Error> {
     let components = strong_components(csr)?;
     let labels = &components.labels;
-    let sizes = components.try_sizes()?;
-    let n = csr.n();
-    let indices = csr.indices();
     let mut ticker = Ticker::new();
-
-    let none = usize::MAX;
-    let mut local = alloc::filled("cut: local ids", n, none)?;
-    let mut global = Vec::new();
-    for v in 0..n {
-        if sizes[labels[v].to_usize()].to_usize() > 1 {
-            local[v] = global.len();
-            global.push(v);
-        }
-    }
-    let h = global.len();
-    let mut removed = Vec::new();
-    let mut fwd_start = alloc::with_capacity("cut: rows", h + 1)?;
-    let mut fwd_target = Vec::new();
-    let mut fwd_position = Vec::new();
-    fwd_start.push(0);
-    for u in 0..n {
-        let inside = local[u] != none;
-        let row = csr.row_range(u);
-        ticker.tick_by(row.len() + 1)?;
-        for k in row {
-            let v = indices[k].to_usize();
-            if v == u {
-                removed.push(k);
-            } else if inside && labels[v] == labels[u] {
-                fwd_target.push(local[v]);
-                fwd_position.push(k);
-            }
-        }
-        if inside {
-            fwd_start.push(fwd_target.len());
-        }
-    }
-    drop(local);
-    let inner_m = fwd_target.len();
-    let mut rev_start = alloc::filled("cut: reverse rows", h + 1, 0usize)?;
-    for &v in &fwd_target {
-        rev_start[v + 1] += 1;
-    }
-    for v in 0..h {
-        rev_start[v + 1] += rev_start[v];
-    }
-    let mut cursor = alloc::with_capacity("cut: reverse cursor", h + 1)?;
-    cursor.extend_from_slice(&rev_start);
-    let mut rev_source = alloc::filled("cut: reverse sources", inner_m, 0usize)?;
-    let mut rev_edge = alloc::filled("cut: reverse edges", inner_m, 0usize)?;
-    for u in 0..h {
-        ticker.tick_by(fwd_start[u + 1] - fwd_start[u] + 1)?;
-        for e in fwd_start[u]..fwd_start[u + 1] {
-            let slot = &mut cursor[fwd_target[e]];
-            rev_source[*slot] = u;
-            rev_edge[*slot] = e;
-            *slot += 1;
-        }
-    }
-    drop(cursor);
-    let inner =
-        Inner { global, fwd_start, fwd_target, fwd_position, rev_start, rev_source, rev_edge };
+    let mut loops = Vec::new();
+    let inner = inner_graph::<I, P, L>(csr, &components, &mut loops, &mut ticker)?;
+    let h = inner.nodes();
 
     let mut rank = best_sequence_ranks(&inner, &mut ticker)?;
-    let mut is_cut = alloc::filled("cut: cut flags", inner_m, false)?;
-    let mut candidates = Vec::new();
+    let mut is_cut = alloc::filled("cut: cut flags", inner.edges(), false)?;
+    let candidates = candidates_by_distance(&inner, &rank, &mut is_cut, &mut ticker)?;
+    let untested = put_back(&inner, &mut rank, &mut is_cut, &candidates, &mut ticker)?;
+    drop(candidates);
+    // Local edges are numbered in stored order, so the cut ones come out
+    // ascending; merged with the (ascending) self-loops.
+    let mut removed = Vec::new();
+    let mut sources = Vec::new();
+    let mut loops = loops.into_iter().peekable();
     for u in 0..h {
         ticker.tick_by(inner.out_edges(u).len() + 1)?;
-        for e in inner.out_edges(u) {
-            if rank[u] > rank[inner.fwd_target[e]] {
-                is_cut[e] = true;
-                candidates.push((u, e));
+        for e in inner.out_edges(u).filter(|&e| is_cut[e]) {
+            let position = inner.fwd_position[e].to_usize();
+            while let Some((k, v)) = loops.next_if(|&(k, _)| k < position) {
+                removed.push(k);
+                sources.push(v);
             }
+            removed.push(position);
+            sources.push(inner.global[u]);
         }
     }
-    let untested = put_back(&inner, &mut rank, &mut is_cut, &candidates, &mut ticker)?;
-    removed.extend(
-        candidates.iter().filter(|&&(_, e)| is_cut[e]).map(|&(_, e)| inner.fwd_position[e]),
-    );
-    removed.sort_unstable();
+    for (k, v) in loops {
+        removed.push(k);
+        sources.push(v);
+    }
 
     // Members of each component in label order; the non-trivial ones are
     // then rewritten in their final rank order.
     let (start, mut members) = components.try_members()?;
     let mut at_rank = alloc::filled("cut: nodes by rank", h, 0usize)?;
     for u in 0..h {
-        at_rank[rank[u]] = u;
+        at_rank[rank[u].to_usize()] = u;
     }
     let mut cursor = start;
     for &u in &at_rank {
         let v = inner.global[u];
-        let slot = &mut cursor[labels[v].to_usize()];
-        members[*slot] = I::from_usize(v);
+        let slot = &mut cursor[labels[v.to_usize()].to_usize()];
+        members[*slot] = v;
         *slot += 1;
     }
-    Ok(Cut { removed, order: members, untested })
+    Ok(Cut { removed, sources, order: members, untested })
+}
+
+/// The non-trivial components' edges, renumbered; the stored positions of
+/// self-loops are appended to `loops` (ascending), with their node.
+fn inner_graph<I: Idx, P: Idx, L: Idx>(
+    csr: &Csr<'_, I, P>,
+    components: &crate::scc::Components<I>,
+    loops: &mut Vec<(usize, I)>,
+    ticker: &mut Ticker,
+) -> Result<Inner<I, P, L>, Error> {
+    let labels = &components.labels;
+    let sizes = components.try_sizes()?;
+    let n = csr.n();
+    let outside = none::<L>();
+    let mut local = alloc::filled("cut: local ids", n, outside)?;
+    let mut h = 0usize;
+    for v in 0..n {
+        if sizes[labels[v].to_usize()].to_usize() > 1 {
+            local[v] = L::from_usize(h);
+            h += 1;
+        }
+    }
+    drop(sizes);
+    let mut global = alloc::with_capacity("cut: global ids", h)?;
+    let mut fwd_start = alloc::with_capacity("cut: rows", h + 1)?;
+    // Room for every edge: only the pages written are ever backed.
+    let mut fwd_target = alloc::with_capacity("cut: inner edges", csr.m())?;
+    let mut fwd_position = alloc::with_capacity("cut: inner edge positions", csr.m())?;
+    fwd_start.push(L::default());
+    let changed = || Error::InputChanged { what: "indices" };
+    for u in 0..n {
+        let (first, row) = csr.checked_row_at(u)?;
+        ticker.tick_by(row.len() + 1)?;
+        let own = local[u];
+        if own == outside {
+            for (j, &v) in row.iter().enumerate() {
+                if v.to_usize() == u {
+                    loops.push((first + j, I::from_usize(u)));
+                }
+            }
+            continue;
+        }
+        let label = labels[u];
+        for (j, &v) in row.iter().enumerate() {
+            let v = v.to_usize();
+            if v == u {
+                loops.push((first + j, I::from_usize(u)));
+            } else if *labels.get(v).ok_or_else(changed)? == label {
+                fwd_target.push(local[v]);
+                fwd_position.push(P::from_usize(first + j));
+            }
+        }
+        global.push(I::from_usize(u));
+        fwd_start.push(L::from_usize(fwd_target.len()));
+    }
+    drop(local);
+    let inner_m = fwd_target.len();
+    let mut rev_start = alloc::filled("cut: reverse rows", h + 1, L::default())?;
+    for &v in &fwd_target {
+        let slot = &mut rev_start[v.to_usize() + 1];
+        *slot = L::from_usize(slot.to_usize() + 1);
+    }
+    for v in 0..h {
+        rev_start[v + 1] = L::from_usize(rev_start[v + 1].to_usize() + rev_start[v].to_usize());
+    }
+    let mut cursor = alloc::with_capacity("cut: reverse cursor", h + 1)?;
+    cursor.extend_from_slice(&rev_start);
+    let mut rev_source = alloc::filled("cut: reverse sources", inner_m, L::default())?;
+    let mut rev_edge = alloc::filled("cut: reverse edges", inner_m, L::default())?;
+    for u in 0..h {
+        let row = fwd_start[u].to_usize()..fwd_start[u + 1].to_usize();
+        ticker.tick_by(row.len() + 1)?;
+        for e in row {
+            let slot = &mut cursor[fwd_target[e].to_usize()];
+            let at = slot.to_usize();
+            rev_source[at] = L::from_usize(u);
+            rev_edge[at] = L::from_usize(e);
+            *slot = L::from_usize(at + 1);
+        }
+    }
+    Ok(Inner { global, fwd_start, fwd_target, fwd_position, rev_start, rev_source, rev_edge })
 }
 
 /// Which node a greedy sequence takes when there is neither a sink nor a source.
@@ -217,8 +297,11 @@ const FEW_BACKWARD: usize = 64;
 /// (see [`FEW_BACKWARD`]), else of the Eades–Lin–Smyth sequence. The
 /// Kahn-forced one is abandoned as soon as its forced picks alone exceed
 /// that many backward edges.
-fn best_sequence_ranks(g: &Inner, ticker: &mut Ticker) -> Result<Vec<usize>, Error> {
-    let few = g.fwd_target.len() / FEW_BACKWARD;
+fn best_sequence_ranks<I: Idx, P: Idx, L: Idx>(
+    g: &Inner<I, P, L>,
+    ticker: &mut Ticker,
+) -> Result<Vec<L>, Error> {
+    let few = g.edges() / FEW_BACKWARD;
     if let Some((backward, fewest_in)) = sequence_ranks(g, Pick::FewestIn(few), ticker)? {
         if backward <= few {
             return Ok(fewest_in);
@@ -231,51 +314,121 @@ fn best_sequence_ranks(g: &Inner, ticker: &mut Ticker) -> Result<Vec<usize>, Err
 }
 
 /// The ranks of the greedy sequence under `pick`, and how many edges go
-/// backwards in it; `None` when the sequence was abandoned.
-fn sequence_ranks(
-    g: &Inner,
+/// backwards in it (counted for [`Pick::FewestIn`] only, zero otherwise);
+/// `None` when the sequence was abandoned.
+fn sequence_ranks<I: Idx, P: Idx, L: Idx>(
+    g: &Inner<I, P, L>,
     pick: Pick,
     ticker: &mut Ticker,
-) -> Result<Option<(usize, Vec<usize>)>, Error> {
+) -> Result<Option<(usize, Vec<L>)>, Error> {
     let h = g.nodes();
     let Some(sequence) = greedy_sequence(g, pick, ticker)? else {
         return Ok(None);
     };
-    let mut rank = alloc::filled("cut: ranks", h, 0usize)?;
+    let mut rank = alloc::filled("cut: ranks", h, L::default())?;
     for (p, &u) in sequence.iter().enumerate() {
-        rank[u] = p;
+        rank[u.to_usize()] = L::from_usize(p);
     }
     drop(sequence);
     let mut backward = 0usize;
-    for u in 0..h {
-        ticker.tick_by(g.out_edges(u).len() + 1)?;
-        backward += g.out_edges(u).filter(|&e| rank[u] > rank[g.fwd_target[e]]).count();
+    if pick != Pick::Difference {
+        for u in 0..h {
+            ticker.tick_by(g.out_edges(u).len() + 1)?;
+            backward += g.out_edges(u).filter(|&e| rank[u] > rank[g.target(e)]).count();
+        }
     }
     Ok(Some((backward, rank)))
 }
 
-/// A greedy sequence of the local graph (bin formulation): sinks to the
-/// back, sources to the front, otherwise the node chosen by `pick` to the
-/// front. Ties go to the smallest local id. `None` when abandoned (see
-/// [`Pick::FewestIn`]).
-fn greedy_sequence(
-    g: &Inner,
+const SINKS: usize = 0;
+const SOURCES: usize = 1;
+
+/// Per node: remaining out-degree, remaining in-degree, and the bin it sits
+/// in (`none` once placed), side by side.
+#[derive(Clone, Copy, Default)]
+struct NodeState<L> {
+    out: L,
+    inn: L,
+    bin: L,
+}
+
+/// Stacks of nodes with lazy deletion, all in one arena: an entry is valid
+/// when its node still sits in the entry's bin (a node that changes bin is
+/// pushed again; its newest entry is always above the older ones).
+struct Bins<L> {
+    /// Newest entry of each bin.
+    head: Vec<L>,
+    /// Node of each entry.
+    entry_node: Vec<L>,
+    /// Entry below each entry in its bin.
+    entry_below: Vec<L>,
+}
+
+impl<L: Idx> Bins<L> {
+    fn new(bins: usize, entries: usize) -> Result<Self, Error> {
+        Ok(Bins {
+            head: alloc::filled("cut: bins", bins, none())?,
+            entry_node: alloc::with_capacity("cut: bin entries", entries)?,
+            entry_below: alloc::with_capacity("cut: bin entries", entries)?,
+        })
+    }
+
+    #[inline(always)]
+    fn push(&mut self, state: &mut [NodeState<L>], bin: usize, u: usize) -> Result<(), Error> {
+        if self.entry_node.len() == self.entry_node.capacity() {
+            return Err(Error::Internal { reason: "cut: bin arena full".to_string() });
+        }
+        self.entry_below.push(self.head[bin]);
+        self.head[bin] = L::from_usize(self.entry_node.len());
+        self.entry_node.push(L::from_usize(u));
+        state[u].bin = L::from_usize(bin);
+        Ok(())
+    }
+
+    /// The node on top of `bin`, dropping stale entries on the way.
+    #[inline(always)]
+    fn top(&mut self, state: &[NodeState<L>], bin: usize) -> Option<usize> {
+        let nil = none::<L>();
+        loop {
+            let entry = self.head[bin];
+            if entry == nil {
+                return None;
+            }
+            let u = self.entry_node[entry.to_usize()].to_usize();
+            if state[u].bin.to_usize() == bin {
+                return Some(u);
+            }
+            self.head[bin] = self.entry_below[entry.to_usize()];
+        }
+    }
+}
+
+/// A greedy sequence of the local graph: sinks to the back, sources to the
+/// front, otherwise the node chosen by `pick` to the front. Among equals the
+/// node that entered its bin last goes first (at the start, the smallest
+/// local id). `None` when abandoned (see [`Pick::FewestIn`]).
+fn greedy_sequence<I: Idx, P: Idx, L: Idx>(
+    g: &Inner<I, P, L>,
     pick: Pick,
     ticker: &mut Ticker,
-) -> Result<Option<Vec<usize>>, Error> {
+) -> Result<Option<Vec<L>>, Error> {
     let h = g.nodes();
-    let mut out_degree = alloc::with_capacity("cut: out-degrees", h)?;
-    out_degree.extend((0..h).map(|u| g.out_edges(u).len()));
-    let mut in_degree = alloc::with_capacity("cut: in-degrees", h)?;
-    in_degree.extend((0..h).map(|u| g.in_entries(u).len()));
-    let max_in = in_degree.iter().copied().max().unwrap_or(0);
-    let max_out = out_degree.iter().copied().max().unwrap_or(0);
-    let bins = match pick {
-        Pick::Difference => 2 + max_in + max_out + 1,
-        Pick::FewestIn(_) => 2 + max_in + 1,
+    let placed = none::<L>();
+    let mut state = alloc::with_capacity("cut: node states", h)?;
+    state.extend((0..h).map(|u| NodeState {
+        out: L::from_usize(g.out_edges(u).len()),
+        inn: L::from_usize(g.in_entries(u).len()),
+        bin: placed,
+    }));
+    let max_in = state.iter().map(|s| s.inn.to_usize()).max().unwrap_or(0);
+    let max_out = state.iter().map(|s| s.out.to_usize()).max().unwrap_or(0);
+    let (bins, entries) = match pick {
+        Pick::Difference => (2 + max_in + max_out + 1, h + 2 * g.edges()),
+        Pick::FewestIn(_) => (2 + max_in + 1, h + g.edges()),
     };
-    let mut lists = Lists::new(h, bins)?;
-    let list_for = |out: usize, inn: usize| -> usize {
+    let mut lists = Bins::new(bins, entries)?;
+    let list_for = |s: &NodeState<L>| -> usize {
+        let (out, inn) = (s.out.to_usize(), s.inn.to_usize());
         if out == 0 {
             SINKS
         } else if inn == 0 {
@@ -287,56 +440,71 @@ fn greedy_sequence(
             }
         }
     };
-    // Pushing at the front in descending id leaves the smallest id first.
+    // Pushing in descending id leaves the smallest id on top.
     for u in (0..h).rev() {
-        lists.push(list_for(out_degree[u], in_degree[u]), u);
+        let bin = list_for(&state[u]);
+        lists.push(&mut state, bin, u)?;
     }
-    let mut top = lists.count() - 1;
+    let mut top = bins - 1;
     let mut forced_backward = 0usize;
     let mut front = alloc::with_capacity("cut: sequence", h)?;
     let mut back = Vec::new();
     loop {
-        let u = if let Some(u) = lists.first(SINKS) {
-            back.push(u);
+        let u = if let Some(u) = lists.top(&state, SINKS) {
+            back.push(L::from_usize(u));
             u
-        } else if let Some(u) = lists.first(SOURCES) {
-            front.push(u);
+        } else if let Some(u) = lists.top(&state, SOURCES) {
+            front.push(L::from_usize(u));
             u
         } else {
-            while top > SOURCES && lists.is_empty(top) {
+            let mut found = None;
+            while top > SOURCES {
+                found = lists.top(&state, top);
+                if found.is_some() {
+                    break;
+                }
                 top -= 1;
             }
-            match lists.first(top) {
-                Some(u) if top > SOURCES => {
-                    if let Pick::FewestIn(limit) = pick {
-                        // Every in-edge still left comes from a node placed later.
-                        forced_backward += in_degree[u];
-                        if forced_backward > limit {
-                            return Ok(None);
-                        }
-                    }
-                    front.push(u);
-                    u
+            let Some(u) = found else { break };
+            if let Pick::FewestIn(limit) = pick {
+                // Every in-edge still left comes from a node placed later.
+                forced_backward += state[u].inn.to_usize();
+                if forced_backward > limit {
+                    return Ok(None);
                 }
-                _ => break,
             }
+            front.push(L::from_usize(u));
+            u
         };
         ticker.tick_by(g.out_edges(u).len() + g.in_entries(u).len() + 1)?;
-        lists.remove(u);
+        state[u].bin = placed;
+        // The neighbours' states are read at random: ask for all of them
+        // before the first is needed.
         for e in g.out_edges(u) {
-            let w = g.fwd_target[e];
-            if !lists.is_removed(w) {
-                in_degree[w] -= 1;
-                let to = list_for(out_degree[w], in_degree[w]);
-                lists.relist(w, to);
-                top = top.max(to);
+            prefetch(state.as_ptr().wrapping_add(g.target(e)));
+        }
+        for r in g.in_entries(u) {
+            prefetch(state.as_ptr().wrapping_add(g.source_of_entry(r)));
+        }
+        for e in g.out_edges(u) {
+            let w = g.target(e);
+            if state[w].bin != placed {
+                state[w].inn = L::from_usize(state[w].inn.to_usize() - 1);
+                let to = list_for(&state[w]);
+                if to != state[w].bin.to_usize() {
+                    lists.push(&mut state, to, w)?;
+                    top = top.max(to);
+                }
             }
         }
         for r in g.in_entries(u) {
-            let w = g.rev_source[r];
-            if !lists.is_removed(w) {
-                out_degree[w] -= 1;
-                lists.relist(w, list_for(out_degree[w], in_degree[w]));
+            let w = g.source_of_entry(r);
+            if state[w].bin != placed {
+                state[w].out = L::from_usize(state[w].out.to_usize() - 1);
+                let to = list_for(&state[w]);
+                if to != state[w].bin.to_usize() {
+                    lists.push(&mut state, to, w)?;
+                }
             }
         }
     }
@@ -344,141 +512,119 @@ fn greedy_sequence(
     Ok(Some(front))
 }
 
-const SINKS: usize = 0;
-const SOURCES: usize = 1;
+/// Number of distance classes: distances between ranks by bit length.
+const CLASSES: usize = usize::BITS as usize + 1;
 
-/// Doubly linked lists of nodes, each node in at most one list.
-struct Lists {
-    head: Vec<usize>,
-    next: Vec<usize>,
-    prev: Vec<usize>,
-    /// The list holding a node; `REMOVED` once taken out for good.
-    list: Vec<usize>,
-}
-
-const NIL: usize = usize::MAX;
-const REMOVED: usize = usize::MAX;
-
-impl Lists {
-    fn new(nodes: usize, lists: usize) -> Result<Self, Error> {
-        Ok(Lists {
-            head: alloc::filled("cut: bins", lists, NIL)?,
-            next: alloc::filled("cut: bin links", nodes, NIL)?,
-            prev: alloc::filled("cut: bin links", nodes, NIL)?,
-            list: alloc::filled("cut: bin of each node", nodes, REMOVED)?,
-        })
-    }
-
-    fn count(&self) -> usize {
-        self.head.len()
-    }
-
-    fn is_empty(&self, list: usize) -> bool {
-        self.head[list] == NIL
-    }
-
-    fn is_removed(&self, u: usize) -> bool {
-        self.list[u] == REMOVED
-    }
-
-    fn push(&mut self, list: usize, u: usize) {
-        let old = self.head[list];
-        self.next[u] = old;
-        self.prev[u] = NIL;
-        if old != NIL {
-            self.prev[old] = u;
-        }
-        self.head[list] = u;
-        self.list[u] = list;
-    }
-
-    fn unlink(&mut self, u: usize) {
-        let (p, q) = (self.prev[u], self.next[u]);
-        if p == NIL {
-            self.head[self.list[u]] = q;
-        } else {
-            self.next[p] = q;
-        }
-        if q != NIL {
-            self.prev[q] = p;
+/// The edges going backwards in `rank`, flagged in `is_cut`, as
+/// `(source, edge)` ordered by the distance between the ranks of their
+/// ends, by powers of two (stored order within one class). Two passes over the edges and a counting sort: linear.
+fn candidates_by_distance<I: Idx, P: Idx, L: Idx>(
+    g: &Inner<I, P, L>,
+    rank: &[L],
+    is_cut: &mut [bool],
+    ticker: &mut Ticker,
+) -> Result<Vec<(L, L)>, Error> {
+    let mut classes: Vec<u8> = Vec::new();
+    let mut start = [0usize; CLASSES + 1];
+    for u in 0..g.nodes() {
+        ticker.tick_by(g.out_edges(u).len() + 1)?;
+        let from = rank[u].to_usize();
+        for e in g.out_edges(u) {
+            let to = rank[g.target(e)].to_usize();
+            if from > to {
+                is_cut[e] = true;
+                let class = (usize::BITS - (from - to).leading_zeros()) as usize;
+                classes.push(class as u8);
+                start[class + 1] += 1;
+            }
         }
     }
-
-    fn first(&self, list: usize) -> Option<usize> {
-        let u = self.head[list];
-        (u != NIL).then_some(u)
+    for k in 0..CLASSES {
+        start[k + 1] += start[k];
     }
-
-    /// Take `u` out of every list for good.
-    fn remove(&mut self, u: usize) {
-        self.unlink(u);
-        self.list[u] = REMOVED;
-    }
-
-    fn relist(&mut self, u: usize, to: usize) {
-        if self.list[u] != to {
-            self.unlink(u);
-            self.push(to, u);
+    let mut sorted = alloc::filled("cut: candidates", classes.len(), (L::default(), L::default()))?;
+    let mut next = 0usize;
+    for u in 0..g.nodes() {
+        ticker.tick_by(g.out_edges(u).len() + 1)?;
+        for e in g.out_edges(u).filter(|&e| is_cut[e]) {
+            let slot = &mut start[classes[next] as usize];
+            sorted[*slot] = (L::from_usize(u), L::from_usize(e));
+            *slot += 1;
+            next += 1;
         }
     }
+    Ok(sorted)
 }
 
 /// Search work (nodes expanded plus edges scanned) the put-back pass may
 /// spend per node and edge of the non-trivial components; components
 /// totalling at most `PUT_BACK_EXACT` nodes and edges are tested without a
 /// budget.
-const PUT_BACK_WORK: usize = 4;
+pub const PUT_BACK_WORK: usize = 1;
 const PUT_BACK_EXACT: usize = 1 << 12;
-/// A test is not started with less budget than this: on graphs where the
-/// share per edge is that small (dense random graphs with hundreds of
-/// thousands of candidates) almost every test would run out anyway.
-const PUT_BACK_LEAST: usize = 64;
+/// A test started while budget is left may spend at least this much.
+pub const PUT_BACK_LEAST: usize = 64;
+/// Every `YIELD_WINDOW` tests the pass looks back: when fewer than one in
+/// `YIELD_SHARE` of them reached a verdict, no further test is started.
+const YIELD_WINDOW: usize = 256;
+const YIELD_SHARE: usize = 8;
 
 /// Pearce–Kelly put-back of the candidate edges `(source, edge)`, in order,
 /// with the two searches run in turns (see the module documentation).
 /// Returns how many candidates stayed cut untested because their test ran
-/// out of search budget.
-fn put_back(
-    g: &Inner,
-    rank: &mut [usize],
+/// out of search budget or was not started.
+fn put_back<I: Idx, P: Idx, L: Idx>(
+    g: &Inner<I, P, L>,
+    rank: &mut [L],
     is_cut: &mut [bool],
-    candidates: &[(usize, usize)],
+    candidates: &[(L, L)],
     ticker: &mut Ticker,
 ) -> Result<usize, Error> {
     let h = g.nodes();
     // Search marks: a node belongs to the current search when its mark
     // equals the round number, so nothing is cleared between rounds.
-    let mut forward_mark = alloc::filled("cut: forward marks", h, 0usize)?;
-    let mut backward_mark = alloc::filled("cut: backward marks", h, 0usize)?;
+    let mut forward_mark = alloc::filled("cut: forward marks", h, L::default())?;
+    let mut backward_mark = alloc::filled("cut: backward marks", h, L::default())?;
     let mut forward_stack = Vec::new();
     let mut backward_stack = Vec::new();
-    let mut forward = Vec::new();
-    let mut backward = Vec::new();
+    let mut forward: Vec<usize> = Vec::new();
+    let mut backward: Vec<usize> = Vec::new();
     let mut pool = Vec::new();
-    let size = h.saturating_add(g.fwd_target.len());
+    let size = h.saturating_add(g.edges());
+    let exact = size <= PUT_BACK_EXACT;
     let mut budget = PUT_BACK_WORK.saturating_mul(size);
     let mut untested = 0usize;
+    // Tests started and verdicts reached since the last look, and whether
+    // tests are still started (see `YIELD_WINDOW`).
+    let (mut started, mut decided) = (0usize, 0usize);
+    let mut testing = true;
     for (round, &(x, e)) in candidates.iter().enumerate() {
-        // Up to four times an even share of what is left; what a test does
-        // not use stays for the later ones. A complete test costs at most
-        // twice the size (each side expands every node once).
-        let cap = if size <= PUT_BACK_EXACT {
-            usize::MAX
-        } else {
-            (budget / (candidates.len() - round)).saturating_mul(4)
-        };
-        let round = round + 1;
-        let y = g.fwd_target[e];
+        let (x, e) = (x.to_usize(), e.to_usize());
+        let y = g.target(e);
         let (lower, upper) = (rank[y], rank[x]);
         if lower > upper {
             // Earlier reorderings already put x before y.
             is_cut[e] = false;
             continue;
         }
-        if cap < PUT_BACK_LEAST {
+        // Four times an even share of what is left, at least the least;
+        // what a test does not use stays for the later ones.
+        if !exact && started >= YIELD_WINDOW {
+            // Distances only grow from class to class: when few tests of
+            // the last window reached a verdict, the farther ones will not.
+            testing &= decided * YIELD_SHARE >= started;
+            (started, decided) = (0, 0);
+        }
+        let cap = if exact {
+            usize::MAX
+        } else if budget == 0 || !testing {
             untested += 1;
             continue;
-        }
+        } else {
+            (budget / (candidates.len() - round)).saturating_mul(4).max(PUT_BACK_LEAST)
+        };
+        let round = L::from_usize(round + 1);
+        started += 1;
         // Forward from y through ranks below x's, backward from x through
         // ranks above y's; a node reached by both closes a cycle. When one
         // side runs out first there is no cycle, and the other side is
@@ -513,7 +659,7 @@ fn put_back(
                     if is_cut[f] {
                         continue;
                     }
-                    let w = g.fwd_target[f];
+                    let w = g.target(f);
                     if backward_mark[w] == round {
                         closes = true;
                         break;
@@ -530,10 +676,10 @@ fn put_back(
                 backward_work += entries.len() + 1;
                 ticker.tick_by(entries.len() + 1)?;
                 for r in entries {
-                    if is_cut[g.rev_edge[r]] {
+                    if is_cut[g.rev_edge[r].to_usize()] {
                         continue;
                     }
-                    let w = g.rev_source[r];
+                    let w = g.source_of_entry(r);
                     if forward_mark[w] == round {
                         closes = true;
                         break;
@@ -547,6 +693,7 @@ fn put_back(
         }
         budget = budget.saturating_sub(forward_work + backward_work);
         if closes {
+            decided += 1;
             continue;
         }
         if !(forward_stack.is_empty() && backward_stack.is_empty()) {
@@ -554,6 +701,7 @@ fn put_back(
             untested += 1;
             continue;
         }
+        decided += 1;
         // No cycle. x's ancestors take the smallest of the affected ranks,
         // y's descendants the rest, each group in its old order.
         backward.sort_unstable_by_key(|&a| rank[a]);
@@ -619,6 +767,10 @@ mod tests {
             let cut = cut_cycles(&g).unwrap();
             assert_eq!(cut.untested, 0, "small components are tested without a budget");
             assert!(cut.removed.windows(2).all(|w| w[0] < w[1]));
+            assert_eq!(cut.sources.len(), cut.removed.len());
+            for (&k, &u) in cut.removed.iter().zip(&cut.sources) {
+                assert!(g.row_range(u as usize).contains(&k), "edge {k} is not in row {u}");
+            }
             let (rp, ri) = rest_of(&indptr, &indices, &cut.removed);
             let rest = Csr::new(&rp, &ri).unwrap();
             assert_eq!(verify(&rest, &cut.order).unwrap(), None, "order of the rest");

@@ -65,9 +65,83 @@ pub fn edges_to_csr<I: Idx>(
     Ok(OwnedCsr { indptr, indices, edge_ids: with_edge_ids.then_some(edge_ids) })
 }
 
+/// The input positions, ascending, of the stored edges `stored` of the CSR
+/// that [`edges_to_csr`] builds from `src` (stable grouping by source, with
+/// `indptr` its offsets): one pass over `src`, without building the edge
+/// ids of every edge.
+pub fn input_positions_of<I: Idx, P: Idx>(
+    src: &[I],
+    indptr: &[P],
+    stored: &[i64],
+) -> Result<Vec<i64>, Error> {
+    let m = src.len();
+    let n = indptr.len().saturating_sub(1);
+    if indptr.last().map_or(0, |last| last.to_usize()) != m {
+        return Err(Error::LengthMismatch {
+            what: "src (edges counted by indptr)",
+            expected: indptr.last().map_or(0, |last| last.to_usize()),
+            got: m,
+        });
+    }
+    let mut wanted = alloc::filled("picked edges", m.div_ceil(64), 0u64)?;
+    for (position, &k) in stored.iter().enumerate() {
+        let Some(word) = usize::try_from(k).ok().filter(|&k| k < m).map(|k| k / 64) else {
+            return Err(Error::IndexOutOfRange {
+                what: "stored edge positions",
+                position,
+                value: k as i128,
+                n: m,
+            });
+        };
+        wanted[word] |= 1 << (k as usize % 64);
+    }
+    let mut cursor = alloc::with_capacity("row cursors", n)?;
+    cursor.extend(indptr[..n].iter().map(|p| p.to_usize()));
+    let mut found = alloc::with_capacity("input positions", stored.len())?;
+    let mut ticker = crate::interrupt::Ticker::new();
+    let changed = || Error::InputChanged { what: "src" };
+    for (chunk, sources) in src.chunks(1 << 16).enumerate() {
+        ticker.tick_by(sources.len())?;
+        for (j, &u) in sources.iter().enumerate() {
+            let slot = cursor.get_mut(u.to_usize()).ok_or_else(changed)?;
+            let k = *slot;
+            *slot += 1;
+            if wanted.get(k / 64).ok_or_else(changed)? >> (k % 64) & 1 == 1 {
+                found.push(((chunk << 16) + j) as i64);
+            }
+        }
+    }
+    if found.len() != stored.len() {
+        // Repeated stored positions, or `src` other than the one counted.
+        return Err(Error::LengthMismatch {
+            what: "input positions found for the stored edge positions",
+            expected: stored.len(),
+            got: found.len(),
+        });
+    }
+    Ok(found)
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn input_positions_of_chosen_edges_match_the_full_edge_ids() {
+        let src = [3i64, 0, 3, 1, 0, 3, 2];
+        let dst = [0i64, 1, 1, 2, 2, 2, 3];
+        let built = edges_to_csr(&src, &dst, 4, true).unwrap();
+        let ids = built.edge_ids.unwrap();
+        for stored in [vec![], vec![0i64], vec![1, 4, 6], (0..7).collect()] {
+            let mut expected: Vec<i64> = stored.iter().map(|&k| ids[k as usize]).collect();
+            expected.sort_unstable();
+            assert_eq!(input_positions_of(&src, &built.indptr, &stored).unwrap(), expected);
+        }
+        assert!(input_positions_of(&src, &built.indptr, &[7]).is_err());
+        assert!(input_positions_of(&src, &built.indptr, &[-1]).is_err());
+        assert!(input_positions_of(&src, &built.indptr, &[2, 2]).is_err());
+        assert!(input_positions_of(&src[..6], &built.indptr, &[0]).is_err());
+    }
 
     #[test]
     fn rows_keep_input_order() {

@@ -229,6 +229,8 @@ fn cycle_witnesses<'py>(
 struct Cut {
     /// Stored positions of the cut edges, ascending, int64.
     removed: Py<PyAny>,
+    /// The source of each cut edge.
+    sources: Py<PyAny>,
     /// A topological order of the graph without them.
     order: Py<PyAny>,
     /// Cut edges whose put-back test ran out of search budget; the cut is
@@ -250,6 +252,7 @@ impl<'py> OnGraph<'py> for CutOf {
         let removed: Vec<i64> = found.removed.into_iter().map(|k| k as i64).collect();
         Ok(Cut {
             removed: array(py, removed),
+            sources: array(py, found.sources),
             order: array(py, found.order),
             untested: found.untested,
         })

@@ -5,8 +5,8 @@ use toporank_core::verify::{self, Violation as CoreViolation};
 use toporank_core::{edges, kahn_shared, Csr, Key, KeyValues, Tie};
 
 use crate::common::{
-    array, compute, cyclic, has_dtype, on_graph, on_ids, optional_array, read, Array, Index,
-    OnGraph, OnIds,
+    array, compute, cyclic, has_dtype, on_graph, on_ids, on_pair, optional_array, read, Array,
+    Index, OnGraph, OnIds,
 };
 use crate::errors::input_error;
 
@@ -140,6 +140,36 @@ fn edges_to_csr<'py>(
     on_ids(py, ("src", src), ("dst", dst), EdgesToCsr { n, with_edge_ids })
 }
 
+struct InputPositionsOf<'a> {
+    stored: &'a [i64],
+}
+
+impl<'py> OnGraph<'py> for InputPositionsOf<'_> {
+    type Output = Py<PyAny>;
+    fn run<I: Index, P: Index>(
+        self,
+        py: Python<'py>,
+        indptr: &[P],
+        src: &[I],
+    ) -> PyResult<Py<PyAny>> {
+        let found = compute(py, || edges::input_positions_of(src, indptr, self.stored))?;
+        Ok(array(py, found))
+    }
+}
+
+/// The input positions, ascending, of the stored edges `stored` (int64) of
+/// the graph `edges_to_csr(src, ...)` built with offsets `indptr`.
+#[pyfunction]
+fn input_positions_of<'py>(
+    py: Python<'py>,
+    src: &Bound<'py, PyAny>,
+    indptr: &Bound<'py, PyAny>,
+    stored: &Bound<'py, PyAny>,
+) -> PyResult<Py<PyAny>> {
+    let stored = read::<i64>(stored, "stored", "int64")?;
+    on_pair(py, ("indptr", indptr), ("src", src), InputPositionsOf { stored: stored.values()? })
+}
+
 /// Why a sequence is not a topological order; the Python layer words it.
 ///
 /// `kind` is `"out_of_range"` (`position`, `value`), `"duplicate"` (`node`,
@@ -253,6 +283,7 @@ pub(crate) fn register(m: &Bound<'_, PyModule>) -> PyResult<()> {
     m.add_class::<Violation>()?;
     m.add_function(wrap_pyfunction!(kahn_order, m)?)?;
     m.add_function(wrap_pyfunction!(edges_to_csr, m)?)?;
+    m.add_function(wrap_pyfunction!(input_positions_of, m)?)?;
     m.add_function(wrap_pyfunction!(verify_order, m)?)?;
     m.add_function(wrap_pyfunction!(positions, m)?)?;
     Ok(())
