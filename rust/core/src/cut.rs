@@ -17,9 +17,11 @@
 //!      closest to being a source. On a DAG with a few back edges it finds
 //!      the back edges where the degree difference wanders off.
 //!
-//!    The bins are stacks with lazy deletion: a node whose degree changes is
-//!    pushed again onto its new bin and its old entry is skipped when
-//!    reached, which takes the node state of one node from one cache line.
+//!    The bins are stacks with lazy deletion, all in one arena. A node is
+//!    pushed again when its bin rises or it becomes a source or a sink; when
+//!    its bin falls its entry stays where it is, above the bin, and the node
+//!    is moved down when the scan from the highest bin reaches it. Stale
+//!    entries are skipped, and a node's degrees and bin share one cache line.
 //! 3. Put-back pass: cut edges are reinserted when that keeps the graph
 //!    acyclic, keeping a topological order up to date with the Pearce–Kelly
 //!    insertion algorithm (D. J. Pearce & P. H. J. Kelly, "A dynamic
@@ -353,8 +355,8 @@ struct NodeState<L> {
 }
 
 /// Stacks of nodes with lazy deletion, all in one arena: an entry is valid
-/// when its node still sits in the entry's bin (a node that changes bin is
-/// pushed again; its newest entry is always above the older ones).
+/// when it is its node's newest (the node's `bin` names the entry's bin; a
+/// node pushed again has its newest entry above the older ones).
 struct Bins<L> {
     /// Newest entry of each bin.
     head: Vec<L>,
@@ -383,6 +385,13 @@ impl<L: Idx> Bins<L> {
         self.entry_node.push(L::from_usize(u));
         state[u].bin = L::from_usize(bin);
         Ok(())
+    }
+
+    /// Take the top entry of `bin` off (its node is moved elsewhere).
+    #[inline(always)]
+    fn drop_top(&mut self, bin: usize) {
+        let entry = self.head[bin].to_usize();
+        self.head[bin] = self.entry_below[entry];
     }
 
     /// The node on top of `bin`, dropping stale entries on the way.
@@ -423,8 +432,8 @@ fn greedy_sequence<I: Idx, P: Idx, L: Idx>(
     let max_in = state.iter().map(|s| s.inn.to_usize()).max().unwrap_or(0);
     let max_out = state.iter().map(|s| s.out.to_usize()).max().unwrap_or(0);
     let (bins, entries) = match pick {
-        Pick::Difference => (2 + max_in + max_out + 1, h + 2 * g.edges()),
-        Pick::FewestIn(_) => (2 + max_in + 1, h + g.edges()),
+        Pick::Difference => (2 + max_in + max_out + 1, 2 * h + 2 * g.edges()),
+        Pick::FewestIn(_) => (2 + max_in + 1, 2 * h + g.edges()),
     };
     let mut lists = Bins::new(bins, entries)?;
     let list_for = |s: &NodeState<L>| -> usize {
@@ -457,13 +466,22 @@ fn greedy_sequence<I: Idx, P: Idx, L: Idx>(
             front.push(L::from_usize(u));
             u
         } else {
+            // A node's entry may sit above its bin (a lost out-edge lowers
+            // the bin without a new entry); such a node moves down when met.
             let mut found = None;
             while top > SOURCES {
-                found = lists.top(&state, top);
-                if found.is_some() {
-                    break;
+                match lists.top(&state, top) {
+                    None => top -= 1,
+                    Some(u) => {
+                        let actual = list_for(&state[u]);
+                        if actual == top {
+                            found = Some(u);
+                            break;
+                        }
+                        lists.drop_top(top);
+                        lists.push(&mut state, actual, u)?;
+                    }
                 }
-                top -= 1;
             }
             let Some(u) = found else { break };
             if let Pick::FewestIn(limit) = pick {
@@ -486,12 +504,16 @@ fn greedy_sequence<I: Idx, P: Idx, L: Idx>(
         for r in g.in_entries(u) {
             prefetch(state.as_ptr().wrapping_add(g.source_of_entry(r)));
         }
+        // A lost in-edge raises a node's bin (or makes it a source): it is
+        // pushed again when that takes it above its entry. A lost out-edge
+        // lowers it: only a new sink is pushed (see above for the rest).
         for e in g.out_edges(u) {
             let w = g.target(e);
             if state[w].bin != placed {
                 state[w].inn = L::from_usize(state[w].inn.to_usize() - 1);
                 let to = list_for(&state[w]);
-                if to != state[w].bin.to_usize() {
+                let at = state[w].bin.to_usize();
+                if to > at || (to == SOURCES && at != SOURCES) {
                     lists.push(&mut state, to, w)?;
                     top = top.max(to);
                 }
@@ -501,9 +523,8 @@ fn greedy_sequence<I: Idx, P: Idx, L: Idx>(
             let w = g.source_of_entry(r);
             if state[w].bin != placed {
                 state[w].out = L::from_usize(state[w].out.to_usize() - 1);
-                let to = list_for(&state[w]);
-                if to != state[w].bin.to_usize() {
-                    lists.push(&mut state, to, w)?;
+                if state[w].out == L::default() && state[w].bin.to_usize() != SINKS {
+                    lists.push(&mut state, SINKS, w)?;
                 }
             }
         }
