@@ -91,9 +91,8 @@ struct Inner<I, P, L> {
     /// Stored position of each local edge in the input CSR.
     fwd_position: Vec<P>,
     rev_start: Vec<L>,
-    rev_source: Vec<L>,
-    /// Reverse entry -> local edge number.
-    rev_edge: Vec<L>,
+    /// Reverse entries: (source, local edge number).
+    rev: Vec<(L, L)>,
 }
 
 impl<I: Idx, P: Idx, L: Idx> Inner<I, P, L> {
@@ -122,7 +121,7 @@ impl<I: Idx, P: Idx, L: Idx> Inner<I, P, L> {
 
     #[inline(always)]
     fn source_of_entry(&self, r: usize) -> usize {
-        self.rev_source[r].to_usize()
+        self.rev[r].0.to_usize()
     }
 }
 
@@ -211,15 +210,24 @@ fn inner_graph<I: Idx, P: Idx, L: Idx>(
     let sizes = components.try_sizes()?;
     let n = csr.n();
     let outside = none::<L>();
-    let mut local = alloc::filled("cut: local ids", n, outside)?;
-    let mut h = 0usize;
+    // Per node: local id and component, both numbered among the non-trivial
+    // components only (so they fit `L`), side by side for one read per edge.
+    let mut local = alloc::filled("cut: local ids", n, (outside, outside))?;
+    let mut compact = alloc::filled("cut: component numbers", components.count, outside)?;
+    let (mut h, mut inner_components) = (0usize, 0usize);
     for v in 0..n {
-        if sizes[labels[v].to_usize()].to_usize() > 1 {
-            local[v] = L::from_usize(h);
+        let label = labels[v].to_usize();
+        if sizes[label].to_usize() > 1 {
+            if compact[label] == outside {
+                compact[label] = L::from_usize(inner_components);
+                inner_components += 1;
+            }
+            local[v] = (L::from_usize(h), compact[label]);
             h += 1;
         }
     }
     drop(sizes);
+    drop(compact);
     let mut global = alloc::with_capacity("cut: global ids", h)?;
     let mut fwd_start = alloc::with_capacity("cut: rows", h + 1)?;
     // Room for every edge: only the pages written are ever backed.
@@ -230,7 +238,7 @@ fn inner_graph<I: Idx, P: Idx, L: Idx>(
     for u in 0..n {
         let (first, row) = csr.checked_row_at(u)?;
         ticker.tick_by(row.len() + 1)?;
-        let own = local[u];
+        let (own, component) = local[u];
         if own == outside {
             for (j, &v) in row.iter().enumerate() {
                 if v.to_usize() == u {
@@ -239,13 +247,13 @@ fn inner_graph<I: Idx, P: Idx, L: Idx>(
             }
             continue;
         }
-        let label = labels[u];
         for (j, &v) in row.iter().enumerate() {
             let v = v.to_usize();
+            let &(id, other) = local.get(v).ok_or_else(changed)?;
             if v == u {
                 loops.push((first + j, I::from_usize(u)));
-            } else if *labels.get(v).ok_or_else(changed)? == label {
-                fwd_target.push(local[v]);
+            } else if other == component {
+                fwd_target.push(id);
                 fwd_position.push(P::from_usize(first + j));
             }
         }
@@ -264,20 +272,18 @@ fn inner_graph<I: Idx, P: Idx, L: Idx>(
     }
     let mut cursor = alloc::with_capacity("cut: reverse cursor", h + 1)?;
     cursor.extend_from_slice(&rev_start);
-    let mut rev_source = alloc::filled("cut: reverse sources", inner_m, L::default())?;
-    let mut rev_edge = alloc::filled("cut: reverse edges", inner_m, L::default())?;
+    let mut rev = alloc::filled("cut: reverse entries", inner_m, (L::default(), L::default()))?;
     for u in 0..h {
         let row = fwd_start[u].to_usize()..fwd_start[u + 1].to_usize();
         ticker.tick_by(row.len() + 1)?;
         for e in row {
             let slot = &mut cursor[fwd_target[e].to_usize()];
             let at = slot.to_usize();
-            rev_source[at] = L::from_usize(u);
-            rev_edge[at] = L::from_usize(e);
+            rev[at] = (L::from_usize(u), L::from_usize(e));
             *slot = L::from_usize(at + 1);
         }
     }
-    Ok(Inner { global, fwd_start, fwd_target, fwd_position, rev_start, rev_source, rev_edge })
+    Ok(Inner { global, fwd_start, fwd_target, fwd_position, rev_start, rev })
 }
 
 /// Which node a greedy sequence takes when there is neither a sink nor a source.
@@ -360,29 +366,25 @@ struct NodeState<L> {
 struct Bins<L> {
     /// Newest entry of each bin.
     head: Vec<L>,
-    /// Node of each entry.
-    entry_node: Vec<L>,
-    /// Entry below each entry in its bin.
-    entry_below: Vec<L>,
+    /// Each entry: its node and the entry below it in its bin.
+    entries: Vec<(L, L)>,
 }
 
 impl<L: Idx> Bins<L> {
     fn new(bins: usize, entries: usize) -> Result<Self, Error> {
         Ok(Bins {
             head: alloc::filled("cut: bins", bins, none())?,
-            entry_node: alloc::with_capacity("cut: bin entries", entries)?,
-            entry_below: alloc::with_capacity("cut: bin entries", entries)?,
+            entries: alloc::with_capacity("cut: bin entries", entries)?,
         })
     }
 
     #[inline(always)]
     fn push(&mut self, state: &mut [NodeState<L>], bin: usize, u: usize) -> Result<(), Error> {
-        if self.entry_node.len() == self.entry_node.capacity() {
+        if self.entries.len() == self.entries.capacity() {
             return Err(Error::Internal { reason: "cut: bin arena full".to_string() });
         }
-        self.entry_below.push(self.head[bin]);
-        self.head[bin] = L::from_usize(self.entry_node.len());
-        self.entry_node.push(L::from_usize(u));
+        self.entries.push((L::from_usize(u), self.head[bin]));
+        self.head[bin] = L::from_usize(self.entries.len() - 1);
         state[u].bin = L::from_usize(bin);
         Ok(())
     }
@@ -391,7 +393,7 @@ impl<L: Idx> Bins<L> {
     #[inline(always)]
     fn drop_top(&mut self, bin: usize) {
         let entry = self.head[bin].to_usize();
-        self.head[bin] = self.entry_below[entry];
+        self.head[bin] = self.entries[entry].1;
     }
 
     /// The node on top of `bin`, dropping stale entries on the way.
@@ -403,11 +405,12 @@ impl<L: Idx> Bins<L> {
             if entry == nil {
                 return None;
             }
-            let u = self.entry_node[entry.to_usize()].to_usize();
+            let (node, below) = self.entries[entry.to_usize()];
+            let u = node.to_usize();
             if state[u].bin.to_usize() == bin {
                 return Some(u);
             }
-            self.head[bin] = self.entry_below[entry.to_usize()];
+            self.head[bin] = below;
         }
     }
 }
@@ -581,7 +584,7 @@ fn candidates_by_distance<I: Idx, P: Idx, L: Idx>(
 /// spend per node and edge of the non-trivial components; components
 /// totalling at most `PUT_BACK_EXACT` nodes and edges are tested without a
 /// budget.
-pub const PUT_BACK_WORK: usize = 1;
+pub const PUT_BACK_WORK: usize = 4;
 const PUT_BACK_EXACT: usize = 1 << 12;
 /// A test started while budget is left may spend at least this much.
 pub const PUT_BACK_LEAST: usize = 64;
@@ -697,7 +700,7 @@ fn put_back<I: Idx, P: Idx, L: Idx>(
                 backward_work += entries.len() + 1;
                 ticker.tick_by(entries.len() + 1)?;
                 for r in entries {
-                    if is_cut[g.rev_edge[r].to_usize()] {
+                    if is_cut[g.rev[r].1.to_usize()] {
                         continue;
                     }
                     let w = g.source_of_entry(r);
