@@ -68,6 +68,12 @@ impl FifoHooks for () {}
 /// [`Csr::in_degree_counts`]); `order` is replaced. Stops early, with
 /// [`Error::InputChanged`], if the arrays change under it, and with
 /// [`Error::Interrupted`] on a stop request.
+///
+/// Kept out of line (one call per run), so the hot loop's code does not
+/// depend on the caller it would otherwise be inlined into: inlined into
+/// Kahn's entry point, the whole FIFO call from Python measured about 15%
+/// slower on the 1M-node, 10M-edge citation graph.
+#[inline(never)]
 pub(crate) fn run_queue<I: Idx, P: Idx, C: Count, H: FifoHooks>(
     csr: &Csr<'_, I, P>,
     indegree: &mut [C],
