@@ -11,9 +11,10 @@
 //!
 //! Soundness does not rest on the input holding still: the caller's arrays
 //! are shared with Python, whose other threads run while the GIL is released.
-//! Every read of `indptr`/`indices` here is bounds-checked (a predictable
-//! branch; measured within noise of the unchecked loop), and a value that
-//! changed mid-call ends the call with [`Error::InputChanged`] instead.
+//! Every value read from `indptr`/`indices` is checked before it is used as a
+//! position (the FIFO loop reads without a check only where its own
+//! invariants decide, see [`run_queue`]), and a value that changed mid-call
+//! ends the call with [`Error::InputChanged`] instead.
 
 use std::marker::PhantomData;
 
@@ -68,6 +69,27 @@ impl FifoHooks for () {}
 /// [`Csr::in_degree_counts`]); `order` is replaced. Stops early, with
 /// [`Error::InputChanged`], if the arrays change under it, and with
 /// [`Error::Interrupted`] on a stop request.
+///
+/// What is checked where: every value read from `indices` is compared with
+/// `n` before it is used as a position, every row's bounds read from
+/// `indptr` are checked against `indices` once per node, and every queue
+/// write is checked against `n` (a node queued twice, which only a changed
+/// input can cause). The loop's own invariants, not the input, then
+/// guarantee the rest: every queued id is below `n` (it passed the first
+/// check, or is a source enumerated below `n`), so the row bounds of a queued
+/// id are read from `indptr` (of length `n + 1`) without a check; and
+/// `tail <= n`, so queue reads below `tail` need none either. The loop alone,
+/// on the 1M-node, 10M-edge citation graph (int64 or int32 ids), measured
+/// 5-13% slower than a loop with no checks at all, against 8-27% for a
+/// bounds check on every read; the per-edge compare is most of what is left.
+/// A power-of-two masked index in its place was no faster (one instruction
+/// either way), nor was an unconditional queue write (slower).
+///
+/// Kept out of line (one call per run), so the hot loop's code does not
+/// depend on the caller it would otherwise be inlined into: inlined into
+/// Kahn's entry point, the whole FIFO call from Python measured about 15%
+/// slower on the same graph.
+#[inline(never)]
 pub(crate) fn run_queue<I: Idx, P: Idx, C: Count, H: FifoHooks>(
     csr: &Csr<'_, I, P>,
     indegree: &mut [C],
@@ -75,19 +97,17 @@ pub(crate) fn run_queue<I: Idx, P: Idx, C: Count, H: FifoHooks>(
     hooks: &mut H,
 ) -> Result<(), Error> {
     let n = csr.n();
-    if indegree.len() != n {
+    let (indptr, indices) = (csr.indptr(), csr.indices());
+    if indegree.len() != n || indptr.len() != n + 1 {
         return Err(Error::Internal { reason: "run_queue: bad buffers".into() });
     }
     // The queue is the spare capacity of `order`: slots `..tail` are
     // written, the rest untouched (no up-front fill: on repeated calls the
     // allocator hands back dirty memory that zeroing would have to clear).
-    // The bounds check of each write (`tail < n`) is also the check that no
-    // node is queued twice, which only a changed input could cause.
     *order = alloc::with_capacity("order", n)?;
     let Some(queue) = order.spare_capacity_mut().get_mut(..n) else {
         return Err(Error::Internal { reason: "run_queue: short buffer".into() });
     };
-    let (indptr, indices) = (csr.indptr(), csr.indices());
     let changed = |what| Err(Error::InputChanged { what });
     let mut tail = 0usize;
     for (v, d) in indegree.iter().enumerate() {
@@ -98,29 +118,45 @@ pub(crate) fn run_queue<I: Idx, P: Idx, C: Count, H: FifoHooks>(
             }
         }
     }
-    // Invariant: `queue[..tail]` is initialised (`tail` grows only right
-    // after a write), and `tail <= n`.
+    // Invariants: `queue[..tail]` is initialised (`tail` grows only right
+    // after a write), `tail <= n == queue.len()`, and every id written is
+    // below `n` (sources are enumerated below `n`; a successor is written
+    // only after `indegree.get_mut` accepted it, and `indegree.len() == n`).
     let written = |queue: &[std::mem::MaybeUninit<I>], at: usize, tail: usize| {
-        // SAFETY: `at < tail`, and every slot below `tail` was written.
-        (at < tail).then(|| unsafe { queue[at].assume_init_read() })
+        // SAFETY: `at < tail <= queue.len()`, and every slot below `tail`
+        // was written (the invariants above).
+        (at < tail).then(|| unsafe { queue.get_unchecked(at).assume_init_read() }.to_usize())
     };
+    // The start of row `u` for a queued id `u`, or the end of row `u - 1`.
+    let bound = |u: usize| {
+        // SAFETY: callers pass a queued id `u` (below `n`, the invariants
+        // above) or such an id plus one, so `u <= n < indptr.len()`.
+        unsafe { indptr.get_unchecked(u) }.to_usize()
+    };
+    // The ticker is asked once per `STRIDE` nodes, its countdown kept in a
+    // local the compiler holds in a register.
+    const STRIDE: u32 = 1024;
     let mut ticker = Ticker::new();
+    let mut countdown = STRIDE;
     let mut head = 0usize;
     while let Some(u) = written(queue, head, tail) {
         if let Some(ahead) = written(queue, head + ROW_AHEAD, tail) {
-            prefetch(indptr.as_ptr().wrapping_add(ahead.to_usize()));
+            prefetch(indptr.as_ptr().wrapping_add(ahead));
         }
-        if let Some(start) =
-            written(queue, head + EDGES_AHEAD, tail).and_then(|a| indptr.get(a.to_usize()))
-        {
-            prefetch(indices.as_ptr().wrapping_add(start.to_usize()));
+        if let Some(ahead) = written(queue, head + EDGES_AHEAD, tail) {
+            prefetch(indices.as_ptr().wrapping_add(bound(ahead)));
         }
-        // Queued ids are all below n (they passed `indegree.get_mut`).
-        let u = u.to_usize();
         hooks.emit(head, u, tail);
         head += 1;
-        let (start, row) = csr.checked_row_at(u)?;
-        ticker.tick()?;
+        countdown -= 1;
+        if countdown == 0 {
+            countdown = STRIDE;
+            ticker.tick_by(STRIDE as usize)?;
+        }
+        let start = bound(u);
+        let Some(row) = indices.get(start..bound(u + 1)) else {
+            return changed("indptr");
+        };
         for (offset, &v) in row.iter().enumerate() {
             let Some(count) = indegree.get_mut(v.to_usize()) else {
                 return changed("indices");
@@ -555,6 +591,27 @@ mod tests {
         assert_eq!(crate::paths::path_counts(&csr, 2).unwrap().unwrap(), counts);
         // Every source starts 2 * 2 paths (two choices per step).
         assert_eq!(counts.total, 4.0 * width as f64);
+    }
+
+    #[test]
+    fn ids_that_stopped_being_nodes_end_the_loop_with_input_changed() {
+        // What the loop sees when `indices` changed after the in-degrees
+        // were counted: an id beyond n or a negative one in a row it reads.
+        // Neither may be used as a position, nor panic.
+        for bad in [2i64, 7, -1, i64::MIN] {
+            let indices = [1, bad];
+            let csr = Csr::new(&[0i64, 2, 2], &indices).unwrap();
+            let mut counts = vec![0u32, 1];
+            let mut order = Vec::new();
+            let out = run_queue(&csr, &mut counts, &mut order, &mut ());
+            assert_eq!(out, Err(Error::InputChanged { what: "indices" }), "{bad}");
+        }
+        // The same arrays with the counts they describe give the order.
+        let csr = Csr::new(&[0i64, 2, 2], &[1, 1]).unwrap();
+        let mut counts = vec![0u32, 2];
+        let mut order = Vec::new();
+        run_queue(&csr, &mut counts, &mut order, &mut ()).unwrap();
+        assert_eq!(order, vec![0, 1]);
     }
 
     #[test]
