@@ -75,7 +75,6 @@ pub fn input_positions_of<I: Idx, P: Idx>(
     stored: &[i64],
 ) -> Result<Vec<i64>, Error> {
     let m = src.len();
-    let n = indptr.len().saturating_sub(1);
     if indptr.last().map_or(0, |last| last.to_usize()) != m {
         return Err(Error::LengthMismatch {
             what: "src (edges counted by indptr)",
@@ -95,22 +94,11 @@ pub fn input_positions_of<I: Idx, P: Idx>(
         };
         wanted[word] |= 1 << (k as usize % 64);
     }
-    let mut cursor = alloc::with_capacity("row cursors", n)?;
-    cursor.extend(indptr[..n].iter().map(|p| p.to_usize()));
-    let mut found = alloc::with_capacity("input positions", stored.len())?;
-    let mut ticker = crate::interrupt::Ticker::new();
-    let changed = || Error::InputChanged { what: "src" };
-    for (chunk, sources) in src.chunks(1 << 16).enumerate() {
-        ticker.tick_by(sources.len())?;
-        for (j, &u) in sources.iter().enumerate() {
-            let slot = cursor.get_mut(u.to_usize()).ok_or_else(changed)?;
-            let k = *slot;
-            *slot += 1;
-            if wanted.get(k / 64).ok_or_else(changed)? >> (k % 64) & 1 == 1 {
-                found.push(((chunk << 16) + j) as i64);
-            }
-        }
-    }
+    let found = if m <= u32::MAX as usize {
+        pick_positions::<I, P, u32>(src, indptr, &wanted, stored.len())?
+    } else {
+        pick_positions::<I, P, u64>(src, indptr, &wanted, stored.len())?
+    };
     if found.len() != stored.len() {
         // Repeated stored positions, or `src` other than the one counted.
         return Err(Error::LengthMismatch {
@@ -118,6 +106,34 @@ pub fn input_positions_of<I: Idx, P: Idx>(
             expected: stored.len(),
             got: found.len(),
         });
+    }
+    Ok(found)
+}
+
+/// The pass of [`input_positions_of`], with row cursors of width `C` (any
+/// that holds the edge count).
+fn pick_positions<I: Idx, P: Idx, C: Idx>(
+    src: &[I],
+    indptr: &[P],
+    wanted: &[u64],
+    count: usize,
+) -> Result<Vec<i64>, Error> {
+    let n = indptr.len().saturating_sub(1);
+    let mut cursor = alloc::with_capacity("row cursors", n)?;
+    cursor.extend(indptr[..n].iter().map(|p| C::from_usize(p.to_usize())));
+    let mut found = alloc::with_capacity("input positions", count)?;
+    let mut ticker = crate::interrupt::Ticker::new();
+    let changed = || Error::InputChanged { what: "src" };
+    for (chunk, sources) in src.chunks(1 << 16).enumerate() {
+        ticker.tick_by(sources.len())?;
+        for (j, &u) in sources.iter().enumerate() {
+            let slot = cursor.get_mut(u.to_usize()).ok_or_else(changed)?;
+            let k = slot.to_usize();
+            *slot = C::from_usize(k + 1);
+            if wanted.get(k / 64).ok_or_else(changed)? >> (k % 64) & 1 == 1 {
+                found.push(((chunk << 16) + j) as i64);
+            }
+        }
     }
     Ok(found)
 }
