@@ -840,10 +840,11 @@ mod tests {
     #[test]
     fn interrupts_end_the_long_loops() {
         crate::interrupt::set_hook(stop_this_thread);
-        STOP.with(|stop| stop.set(true));
         // Big enough to run well past the first check (0.1 s) unoptimised.
         let (indptr, indices) = local_dag_with_back_edge(300_000, 3_000_000, 20, 9);
         let g = Csr::new(&indptr, &indices).unwrap();
+        // Set only now: building the graph ticks too.
+        STOP.with(|stop| stop.set(true));
         assert_eq!(cut_cycles(&g).unwrap_err(), Error::Interrupted);
         // A ring: one component, and a breadth-first search that must go
         // all the way round.

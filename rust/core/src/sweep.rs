@@ -33,6 +33,9 @@ use crate::{alloc, Csr, Error, Idx};
 /// overlaps those independent misses within a row.
 pub(crate) const ROW_AHEAD: usize = 32;
 pub(crate) const EDGES_AHEAD: usize = 16;
+/// Edges of one row worked between two ticks (rows longer than this, hubs,
+/// are split so that a Ctrl-C is seen within one part).
+pub(crate) const ROW_PART: usize = crate::interrupt::STRIDE as usize;
 
 /// Ask for the cache line holding `pointer`; a hint that never faults.
 #[inline(always)]
@@ -89,8 +92,10 @@ pub(crate) fn run_queue<I: Idx, P: Idx, C: Count, H: FifoHooks>(
     };
     let (indptr, indices) = (csr.indptr(), csr.indices());
     let changed = |what| Err(Error::InputChanged { what });
+    let mut ticker = Ticker::new();
     let mut tail = 0usize;
     for (v, d) in indegree.iter().enumerate() {
+        ticker.tick()?;
         if d.is_zero() {
             if let Some(slot) = queue.get_mut(tail) {
                 slot.write(I::from_usize(v));
@@ -104,7 +109,6 @@ pub(crate) fn run_queue<I: Idx, P: Idx, C: Count, H: FifoHooks>(
         // SAFETY: `at < tail`, and every slot below `tail` was written.
         (at < tail).then(|| unsafe { queue[at].assume_init_read() })
     };
-    let mut ticker = Ticker::new();
     let mut head = 0usize;
     while let Some(u) = written(queue, head, tail) {
         if let Some(ahead) = written(queue, head + ROW_AHEAD, tail) {
@@ -120,18 +124,26 @@ pub(crate) fn run_queue<I: Idx, P: Idx, C: Count, H: FifoHooks>(
         hooks.emit(head, u, tail);
         head += 1;
         let (start, row) = csr.checked_row_at(u)?;
-        ticker.tick()?;
-        for (offset, &v) in row.iter().enumerate() {
-            let Some(count) = indegree.get_mut(v.to_usize()) else {
-                return changed("indices");
-            };
-            hooks.edge(u, start + offset, v.to_usize());
-            if count.decrement() {
-                let Some(slot) = queue.get_mut(tail) else {
+        ticker.tick_by(row.len() + 1)?;
+        // A row longer than `ROW_PART` (a hub) is worked in parts with a
+        // tick between them; every other row is one part.
+        for (k, part) in row.chunks(ROW_PART).enumerate() {
+            if k > 0 {
+                ticker.tick_by(part.len())?;
+            }
+            let first = start + k * ROW_PART;
+            for (offset, &v) in part.iter().enumerate() {
+                let Some(count) = indegree.get_mut(v.to_usize()) else {
                     return changed("indices");
                 };
-                slot.write(v);
-                tail += 1;
+                hooks.edge(u, first + offset, v.to_usize());
+                if count.decrement() {
+                    let Some(slot) = queue.get_mut(tail) else {
+                        return changed("indices");
+                    };
+                    slot.write(v);
+                    tail += 1;
+                }
             }
         }
     }
@@ -324,6 +336,11 @@ pub fn worth_sharing<I>(levels: &LevelOrder<I>, threads: usize) -> bool {
     threads > 1 && n >= SHARE_MIN_NODES && n / depth >= SHARE_MIN_WIDTH
 }
 
+/// Nodes of one wide level handed to the pool at once: small enough that
+/// the calling thread ticks every few tens of milliseconds, large enough
+/// that the hand-off costs nothing measurable.
+const SHARED_BLOCK: usize = 1 << 18;
+
 /// A graph this small is done before a pool would have handed out its work.
 const SHARE_MIN_NODES: usize = 1 << 16;
 /// Below this average level width the per-level hand-off outweighs the work.
@@ -363,14 +380,18 @@ where
             .order
             .get(group[0]..group[1])
             .ok_or(Error::Internal { reason: "level offsets out of order".into() })?;
-        // Interrupt checks stay on the calling thread, between levels.
-        ticker.tick_by(group.len())?;
         if group.len() < SERIAL_FRONTIER {
+            ticker.tick_by(group.len())?;
             walk(csr, group.iter(), &settle)?;
-        } else {
-            // Nodes of one level have no edges among them: any split works.
+            continue;
+        }
+        // Nodes of one level have no edges among them: any split works.
+        // Interrupt checks stay on the calling thread (the only one that
+        // sees a Ctrl-C), between hand-offs of at most `SHARED_BLOCK` nodes.
+        for block in group.chunks(SHARED_BLOCK) {
+            ticker.tick_by(block.len())?;
             pool.install(|| {
-                group
+                block
                     .par_chunks(SERIAL_FRONTIER)
                     .try_for_each(|chunk| walk(csr, chunk.iter(), &settle))
             })?;
@@ -471,7 +492,7 @@ impl Weights<'_> {
         if values.len() != expected {
             return Err(Error::LengthMismatch { what, expected, got: values.len() });
         }
-        match values.iter().position(|w| !(w.is_finite() && *w >= 0.0)) {
+        match crate::interrupt::position(values, |w| !(w.is_finite() && *w >= 0.0))? {
             Some(position) => {
                 Err(Error::BadWeight { what, position, value: values[position].to_string() })
             }
