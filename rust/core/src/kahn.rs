@@ -16,7 +16,7 @@ use crate::csr::Count;
 use crate::interrupt::Ticker;
 use crate::ready::{with_ready, ReadySet, WithReady};
 pub use crate::ready::{Key, KeyValues, Tie};
-use crate::sweep::{prefetch, run_queue};
+use crate::sweep::{prefetch, run_queue, ROW_PART};
 use crate::{alloc, Csr, Error, Idx};
 
 /// What Kahn's loop produced.
@@ -91,7 +91,14 @@ pub(crate) fn finish<I: Idx, P: Idx, C: Count>(
     if order.len() == n {
         return Ok(Outcome { order, blocked: Vec::new(), cycle: Vec::new() });
     }
-    let blocked: Vec<I> = (0..n).filter(|&v| !indegree[v].is_zero()).map(I::from_usize).collect();
+    let mut ticker = Ticker::new();
+    let mut blocked: Vec<I> = Vec::new();
+    for (v, left) in indegree.iter().enumerate() {
+        ticker.tick()?;
+        if !left.is_zero() {
+            blocked.push(I::from_usize(v));
+        }
+    }
     let Some(first) = blocked.first() else {
         return Err(Error::InputChanged { what: "indices" });
     };
@@ -112,13 +119,14 @@ impl<I: Idx, P: Idx, C: Count> WithReady for Loop<'_, '_, I, P, C> {
     fn run<R: ReadySet>(self, mut ready: R) -> Result<(), Error> {
         let Loop { csr, indegree, order } = self;
         let n = csr.n();
+        let mut ticker = Ticker::new();
         for (v, d) in indegree.iter().enumerate() {
+            ticker.tick()?;
             if d.is_zero() {
                 ready.push(v);
             }
         }
         let (indptr, indices) = (csr.indptr(), csr.indices());
-        let mut ticker = Ticker::new();
         while let Some(u) = ready.pop() {
             // Pushed items are node ids (< n), and each is pushed once while
             // the input holds still; a changed input must not overrun `order`.
@@ -134,14 +142,20 @@ impl<I: Idx, P: Idx, C: Count> WithReady for Loop<'_, '_, I, P, C> {
             }
             let row = csr.checked_row(u)?;
             ticker.tick_by(row.len() + 1)?;
-            for &v in row {
-                let v = v.to_usize();
-                let Some(count) = indegree.get_mut(v) else {
-                    return Err(Error::InputChanged { what: "indices" });
-                };
-                if count.decrement() {
-                    prefetch(indptr.as_ptr().wrapping_add(v));
-                    ready.push(v);
+            // A hub's row is worked in parts, a tick between them.
+            for (k, part) in row.chunks(ROW_PART).enumerate() {
+                if k > 0 {
+                    ticker.tick_by(part.len())?;
+                }
+                for &v in part {
+                    let v = v.to_usize();
+                    let Some(count) = indegree.get_mut(v) else {
+                        return Err(Error::InputChanged { what: "indices" });
+                    };
+                    if count.decrement() {
+                        prefetch(indptr.as_ptr().wrapping_add(v));
+                        ready.push(v);
+                    }
                 }
             }
         }
@@ -163,11 +177,15 @@ fn cycle_among_blocked<I: Idx, P: Idx, C: Count>(
     let none = usize::MAX;
     let changed = Error::InputChanged { what: "indices" };
     let mut pred = alloc::filled("cycle search", n, none)?;
+    let mut ticker = Ticker::new();
     for u in 0..n {
+        ticker.tick()?;
         if remaining[u].is_zero() {
             continue;
         }
-        for &v in csr.checked_row(u)? {
+        let row = csr.checked_row(u)?;
+        ticker.tick_by(row.len())?;
+        for &v in row {
             let v = v.to_usize();
             if v >= n {
                 return Err(changed);
