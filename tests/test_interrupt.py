@@ -189,13 +189,14 @@ def test_command_interrupted_while_ordering_exits_130_and_writes_nothing(tmp_pat
     del indices, indptr
     out = tmp_path / "out"
     out.mkdir()
+    graph, output = str(tmp_path / "graph"), str(out / "o")
+    command = [sys.executable, "-m", "toporank", "order", graph, "-o", output, "--tie", "priority"]
     terminal, child_end = pty.openpty()
     # rows and columns, as a terminal window has (the spinner draws nothing in 0 x 0)
     fcntl.ioctl(child_end, termios.TIOCSWINSZ, struct.pack("HHHH", 24, 80, 0, 0))
     try:
         process = subprocess.Popen(
-            [sys.executable, "-m", "toporank", "order", str(tmp_path / "graph"), "-o", out / "o"]
-            + ["--tie", "priority"],
+            command,
             stdout=subprocess.DEVNULL,
             stderr=child_end,
         )
