@@ -89,7 +89,7 @@ CASES = {
     "critical_path": ("toporank.critical_path(g)", 4_000_000, 16, 1 << 22, False),
     "path_counts": ("toporank.path_counts(g)", 4_000_000, 16, 1 << 22, False),
     "components": ("toporank.components(g)", 4_000_000, 24, 1 << 22, True),
-    "condense": ("toporank.condense(g)", 4_000_000, 16, 1 << 22, True),
+    "condense": ("toporank.condense(g)", 4_000_000, 6, 1 << 22, True),
     "cut_cycles": ("toporank.cut_cycles(g)", 4_000_000, 8, 1 << 22, True),
     "verify_order": ("toporank.verify_order(g, identity)", 4_000_000, 24, 1 << 22, False),
     "order_metrics": ("toporank.order_metrics(g, identity)", 4_000_000, 24, 1 << 22, False),

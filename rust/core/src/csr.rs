@@ -41,7 +41,9 @@ impl<'a, I: Idx, P: Idx> Csr<'a, I, P> {
         if first.to_i128() != 0 {
             return Err(Error::IndptrStart { value: first.to_i128() });
         }
+        let mut ticker = Ticker::new();
         for (row, pair) in indptr.windows(2).enumerate() {
+            ticker.tick()?;
             if pair[1] < pair[0] {
                 return Err(Error::IndptrDecreasing {
                     row,
