@@ -16,7 +16,7 @@ use crate::csr::Count;
 use crate::interrupt::Ticker;
 use crate::ready::{with_ready, ReadySet, WithReady};
 pub use crate::ready::{Key, KeyValues, Tie};
-use crate::sweep::{prefetch, run_queue, ROW_PART};
+use crate::sweep::{prefetch, run_queue};
 use crate::{alloc, Csr, Error, Idx};
 
 /// What Kahn's loop produced.
@@ -142,20 +142,14 @@ impl<I: Idx, P: Idx, C: Count> WithReady for Loop<'_, '_, I, P, C> {
             }
             let row = csr.checked_row(u)?;
             ticker.tick_by(row.len() + 1)?;
-            // A hub's row is worked in parts, a tick between them.
-            for (k, part) in row.chunks(ROW_PART).enumerate() {
-                if k > 0 {
-                    ticker.tick_by(part.len())?;
-                }
-                for &v in part {
-                    let v = v.to_usize();
-                    let Some(count) = indegree.get_mut(v) else {
-                        return Err(Error::InputChanged { what: "indices" });
-                    };
-                    if count.decrement() {
-                        prefetch(indptr.as_ptr().wrapping_add(v));
-                        ready.push(v);
-                    }
+            for &v in row {
+                let v = v.to_usize();
+                let Some(count) = indegree.get_mut(v) else {
+                    return Err(Error::InputChanged { what: "indices" });
+                };
+                if count.decrement() {
+                    prefetch(indptr.as_ptr().wrapping_add(v));
+                    ready.push(v);
                 }
             }
         }
