@@ -48,6 +48,7 @@ DELAY = 0.3
 CHILD = """
 import sys, time
 import numpy as np
+import scipy.sparse  # condense imports it on first use: not inside the timed window
 import toporank
 
 n, d, window, cyclic = {n}, {d}, {window}, {cyclic}
