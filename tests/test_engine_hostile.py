@@ -63,6 +63,7 @@ def test_input_written_by_another_thread_mid_call_never_crashes():
         built = toporank.Graph.from_edges(src, dst, n=n)
         indptr, indices = built.indptr.copy(), built.indices.copy()
         graph = toporank.Graph.from_csr(indptr, indices)
+        good = toporank.order(graph)
         calls = [
             lambda: toporank.order(graph),
             lambda: toporank.order(graph, tie="priority"),
@@ -70,6 +71,11 @@ def test_input_written_by_another_thread_mid_call_never_crashes():
             lambda: toporank.heights(graph, threads=2),
             lambda: toporank.critical_path(graph, threads=2),
             lambda: toporank.path_counts(graph, threads=2),
+            lambda: toporank.components(graph),
+            lambda: toporank.condense(graph),
+            lambda: toporank.cycle_witness(graph),
+            lambda: toporank.verify_order(graph, good),
+            lambda: toporank.order_metrics(graph, good),
         ]
         stop = threading.Event()
 

@@ -4,6 +4,7 @@
 //! caller); these helpers report [`Error::Allocation`] naming the size
 //! instead, which the binding turns into `MemoryError`.
 
+use crate::interrupt::{Ticker, STRIDE};
 use crate::Error;
 
 /// An empty vector with room for `count` items.
@@ -89,9 +90,19 @@ fn zero_value<T: ZeroBits>() -> T {
 }
 
 /// A vector of `count` copies of `value`.
+///
+/// Writing a large buffer for the first time is slow (the system supplies
+/// and clears each page as it is touched: seconds for gigabytes on some
+/// machines), so the fill ticks like any long loop and may end with
+/// [`Error::Interrupted`].
 pub fn filled<T: Clone>(what: &'static str, count: usize, value: T) -> Result<Vec<T>, Error> {
     let mut v = with_capacity(what, count)?;
-    v.resize(count, value);
+    let mut ticker = Ticker::new();
+    while v.len() < count {
+        let part = (count - v.len()).min(STRIDE as usize);
+        ticker.tick_by(part)?;
+        v.resize(v.len() + part, value.clone());
+    }
     Ok(v)
 }
 

@@ -80,7 +80,7 @@ fn run_policy<I: Idx, P: Idx, W: Count>(
         let block = &mut members[start[c]..start[c + 1]];
         if block.len() > 1 {
             if let Tie::Priority(_) = tie {
-                block.sort_unstable_by_key(|v| (rank(v.to_usize()), *v));
+                crate::interrupt::sort_by_distinct_key(block, |v| (rank(v.to_usize()), *v))?;
             }
             for v in block.iter() {
                 let slot = &mut waiting[v.to_usize()];

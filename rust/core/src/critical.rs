@@ -10,6 +10,7 @@
 //!   for a node without successors; latest start `LS = LF - d`;
 //! * slack (total float) `LS - ES`, zero exactly on the longest paths.
 
+use crate::interrupt::Ticker;
 use crate::sweep::{fifo_sweep, settle_backward, Acyclic, Disjoint, Weights};
 use crate::{alloc, Csr, Error, Idx};
 
@@ -62,14 +63,17 @@ pub fn critical_path<I: Idx, P: Idx>(
     // Finite weights can still add up past the largest float; a length of
     // infinity would give a truncated path and NaN slack, so name the first
     // node (in order) whose earliest finish overflows instead.
-    if let Some(node) =
-        levels.order.iter().map(|u| u.to_usize()).find(|&u| !earliest_finish(u).is_finite())
-    {
-        return Err(Error::Overflow { what: "critical path length", node });
+    let mut ticker = Ticker::new();
+    for u in &levels.order {
+        ticker.tick()?;
+        if !earliest_finish(u.to_usize()).is_finite() {
+            return Err(Error::Overflow { what: "critical path length", node: u.to_usize() });
+        }
     }
     let mut length = 0.0f64;
     let mut end = NONE;
     for u in 0..n {
+        ticker.tick()?;
         // Strictly greater keeps the smallest id among equal finishes.
         if end == NONE || earliest_finish(u) > length {
             length = earliest_finish(u);
@@ -84,6 +88,7 @@ pub fn critical_path<I: Idx, P: Idx>(
     for u in 0..n {
         let finish = earliest_finish(u);
         let (start, row) = csr.checked_row_at(u)?;
+        ticker.tick_by(row.len() + 1)?;
         for (offset, v) in row.iter().enumerate() {
             let v = v.to_usize();
             let Some(&earliest) = earliest_start.get(v) else {
@@ -97,6 +102,7 @@ pub fn critical_path<I: Idx, P: Idx>(
     let mut path = Vec::new();
     let mut at = end;
     while at != NONE {
+        ticker.tick()?;
         if path.len() == n {
             return Err(Error::InputChanged { what: "indices" });
         }

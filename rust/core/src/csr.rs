@@ -2,6 +2,7 @@
 
 use rayon::prelude::*;
 
+use crate::interrupt::{Ticker, STRIDE};
 use crate::{Error, Idx};
 
 /// A directed graph in compressed sparse row form, borrowed from the caller.
@@ -40,7 +41,9 @@ impl<'a, I: Idx, P: Idx> Csr<'a, I, P> {
         if first.to_i128() != 0 {
             return Err(Error::IndptrStart { value: first.to_i128() });
         }
+        let mut ticker = Ticker::new();
         for (row, pair) in indptr.windows(2).enumerate() {
+            ticker.tick()?;
             if pair[1] < pair[0] {
                 return Err(Error::IndptrDecreasing {
                     row,
@@ -58,6 +61,13 @@ impl<'a, I: Idx, P: Idx> Csr<'a, I, P> {
             return Err(Error::TooLarge { what: "node count", count: n, max: I::MAX_USIZE });
         }
         Ok(Csr { indptr, indices })
+    }
+
+    /// Wrap arrays without any check: the state a valid graph is in once
+    /// the caller changed it mid-call (tests of that path only).
+    #[cfg(test)]
+    pub(crate) fn unchecked(indptr: &'a [P], indices: &'a [I]) -> Self {
+        Csr { indptr, indices }
     }
 
     /// Number of nodes.
@@ -130,7 +140,7 @@ impl<'a, I: Idx, P: Idx> Csr<'a, I, P> {
     /// Check that every endpoint lies in `0..n`.
     pub fn check_indices(&self) -> Result<(), Error> {
         let n = self.n();
-        match self.indices.iter().position(|v| v.to_usize() >= n) {
+        match crate::interrupt::position(self.indices, |v| v.to_usize() >= n)? {
             Some(position) => Err(self.out_of_range(position)),
             None => Ok(()),
         }
@@ -143,23 +153,40 @@ impl<'a, I: Idx, P: Idx> Csr<'a, I, P> {
             return Err(Error::TooLarge { what: "edge count", count: self.m(), max: C::MAX });
         }
         let mut indegree: Vec<C> = crate::alloc::zeroed("in-degrees", self.n())?;
-        for (position, v) in self.indices.iter().enumerate() {
-            match indegree.get_mut(v.to_usize()) {
-                Some(slot) => slot.increment(),
-                None => return Err(self.out_of_range(position)),
-            }
-        }
+        self.count_into(&mut indegree, |slot| slot.increment())?;
         Ok(indegree)
     }
 
-    /// [`Csr::in_degree_counts`] shared among `threads` workers: each counts a
-    /// contiguous share of the edges into its own array, then the arrays are
-    /// added. Exact, so the result does not depend on the thread count; an
+    /// `count(slot of v)` for every stored endpoint `v`, in stored order,
+    /// ticking once per stretch of edges; an endpoint outside `counts` is
+    /// [`Error::IndexOutOfRange`] at its position.
+    fn count_into<T>(&self, counts: &mut [T], mut count: impl FnMut(&mut T)) -> Result<(), Error> {
+        const PART: usize = STRIDE as usize;
+        let mut ticker = Ticker::new();
+        for (part, edges) in self.indices.chunks(PART).enumerate() {
+            ticker.tick_by(edges.len())?;
+            for (offset, v) in edges.iter().enumerate() {
+                match counts.get_mut(v.to_usize()) {
+                    Some(slot) => count(slot),
+                    None => return Err(self.out_of_range(part * PART + offset)),
+                }
+            }
+        }
+        Ok(())
+    }
+
+    /// [`Csr::in_degree_counts`] shared among `threads` workers: each counts
+    /// its share of the edges into its own array, then the arrays are added.
+    /// Exact, so the result does not depend on the thread count; an
     /// out-of-range endpoint is reported at its smallest position, as the
     /// serial pass does. Costs `threads - 1` extra count arrays while it runs.
+    /// The edges are handed out in rounds of a few million per worker, and
+    /// the calling thread ticks between rounds (only it can see a Ctrl-C).
     pub fn in_degree_counts_shared<C: Count>(&self, threads: usize) -> Result<Vec<C>, Error> {
         // Below this many edges per worker the hand-off costs more than it saves.
         const SHARE: usize = 1 << 20;
+        // Edges per worker per round: tens of milliseconds of counting.
+        const ROUND_SHARE: usize = 1 << 22;
         let workers = threads.min(self.m() / SHARE).max(1);
         if workers == 1 {
             return self.in_degree_counts();
@@ -168,38 +195,44 @@ impl<'a, I: Idx, P: Idx> Csr<'a, I, P> {
             return Err(Error::TooLarge { what: "edge count", count: self.m(), max: C::MAX });
         }
         let n = self.n();
-        let share = self.m().div_ceil(workers);
-        let counted: Vec<Result<Vec<C>, usize>> = crate::pool::pool(workers)?.install(|| {
-            self.indices
-                .par_chunks(share)
-                .enumerate()
-                .map(|(part, chunk)| {
-                    let Ok(mut counts) = crate::alloc::zeroed::<C>("in-degrees", n) else {
-                        return Err(usize::MAX);
-                    };
-                    for (offset, v) in chunk.iter().enumerate() {
-                        match counts.get_mut(v.to_usize()) {
-                            Some(slot) => slot.increment(),
-                            None => return Err(part * share + offset),
+        let mut parts: Vec<Vec<C>> = Vec::with_capacity(workers);
+        for _ in 0..workers {
+            parts.push(crate::alloc::zeroed("in-degrees", n)?);
+        }
+        let pool = crate::pool::pool(workers)?;
+        let round = workers * ROUND_SHARE;
+        let mut ticker = Ticker::new();
+        for (r, edges) in self.indices.chunks(round).enumerate() {
+            ticker.tick_by(edges.len())?;
+            let share = edges.len().div_ceil(workers);
+            let first_bad = pool.install(|| {
+                parts
+                    .par_iter_mut()
+                    .zip(edges.par_chunks(share))
+                    .enumerate()
+                    .filter_map(|(k, (counts, chunk))| {
+                        for (offset, v) in chunk.iter().enumerate() {
+                            match counts.get_mut(v.to_usize()) {
+                                Some(slot) => slot.increment(),
+                                None => return Some(r * round + k * share + offset),
+                            }
                         }
-                    }
-                    Ok(counts)
-                })
-                .collect()
-        });
-        let mut parts = Vec::with_capacity(counted.len());
-        for part in counted {
-            parts.push(part.map_err(|position| match position {
-                usize::MAX => {
-                    Error::Allocation { what: "in-degrees", count: n, bytes_each: size_of::<C>() }
-                }
-                position => self.out_of_range(position),
-            })?);
+                        None
+                    })
+                    .min()
+            });
+            if let Some(position) = first_bad {
+                return Err(self.out_of_range(position));
+            }
         }
         let mut total = parts.swap_remove(0);
         for part in &parts {
-            for (sum, add) in total.iter_mut().zip(part) {
-                sum.add(*add);
+            for (chunk, add) in total.chunks_mut(STRIDE as usize).zip(part.chunks(STRIDE as usize))
+            {
+                ticker.tick_by(chunk.len())?;
+                for (sum, add) in chunk.iter_mut().zip(add) {
+                    sum.add(*add);
+                }
             }
         }
         Ok(total)
@@ -210,12 +243,7 @@ impl<'a, I: Idx, P: Idx> Csr<'a, I, P> {
     pub fn in_degrees(&self) -> Result<Vec<P>, Error> {
         // Counts fit P: each is at most m, and m fits P because indptr holds it.
         let mut indegree: Vec<P> = crate::alloc::zeroed("in-degrees", self.n())?;
-        for (position, v) in self.indices.iter().enumerate() {
-            match indegree.get_mut(v.to_usize()) {
-                Some(slot) => *slot = P::from_usize(slot.to_usize() + 1),
-                None => return Err(self.out_of_range(position)),
-            }
-        }
+        self.count_into(&mut indegree, |slot| *slot = P::from_usize(slot.to_usize() + 1))?;
         Ok(indegree)
     }
 }

@@ -142,26 +142,33 @@ impl DynamicOrder {
         let mut in_degree = alloc::filled("in-degrees", n, 0usize)?;
         let mut ticker = Ticker::new();
         for &v in csr.indices() {
+            ticker.tick()?;
             // kahn() checked every endpoint
             if let Some(d) = in_degree.get_mut(v.to_usize()) {
                 *d += 1;
             }
         }
         for (u, &d) in in_degree.iter().enumerate() {
-            let row = csr.row(u);
+            let row = csr.checked_row(u)?;
             ticker.tick_by(row.len() + 1)?;
             // room for a few insertions before the first reallocation
             this.out[u] = alloc::with_capacity("successor lists", slack(row.len()))?;
             this.inc[u] = alloc::with_capacity("predecessor lists", slack(d))?;
         }
         for u in 0..n {
-            for &v in csr.row(u) {
+            let row = csr.checked_row(u)?;
+            ticker.tick_by(row.len() + 1)?;
+            for &v in row {
                 let v = v.to_usize();
+                let Some(into) = this.inc.get_mut(v) else {
+                    return Err(Error::InputChanged { what: "indices" });
+                };
+                into.push(u);
                 this.out[u].push(v);
-                this.inc[v].push(u);
             }
         }
         for (at, &v) in outcome.order.iter().enumerate() {
+            ticker.tick()?;
             let v = v.to_usize();
             this.position[v] = at;
             this.node_at[at] = v;

@@ -1,5 +1,6 @@
 //! Edge lists to CSR.
 
+use crate::interrupt::{Ticker, STRIDE};
 use crate::{alloc, Error, Idx};
 
 /// A CSR graph built from an edge list, owning its arrays.
@@ -35,30 +36,40 @@ pub fn edges_to_csr<I: Idx>(
         value: value.to_i128(),
         n,
     };
-    if let Some(position) = dst.iter().position(|v| v.to_usize() >= n) {
+    if let Some(position) = crate::interrupt::position(dst, |v| v.to_usize() >= n)? {
         return Err(out_of_range("dst", position, dst[position]));
     }
     // cursor[u + 1] counts row u, then becomes the next write slot of row u.
+    let mut ticker = Ticker::new();
     let mut cursor = alloc::filled("indptr", n.saturating_add(1), 0usize)?;
     for (position, u) in src.iter().enumerate() {
+        ticker.tick()?;
         match cursor.get_mut(u.to_usize().wrapping_add(1)) {
             Some(count) if u.to_usize() < n => *count += 1,
             _ => return Err(out_of_range("src", position, *u)),
         }
     }
     for u in 0..n {
+        ticker.tick()?;
         cursor[u + 1] += cursor[u];
     }
     let mut indptr: Vec<I> = alloc::with_capacity("indptr", cursor.len())?;
-    indptr.extend(cursor.iter().map(|&c| I::from_usize(c)));
+    for part in cursor.chunks(STRIDE as usize) {
+        ticker.tick_by(part.len())?;
+        indptr.extend(part.iter().map(|&c| I::from_usize(c)));
+    }
     let mut indices = alloc::filled("indices", m, I::default())?;
     let mut edge_ids =
         if with_edge_ids { alloc::filled("edge ids", m, I::default())? } else { Vec::new() };
+    // The endpoints were checked above, but the caller's arrays may have
+    // changed since: every write below is checked, never out of bounds.
+    let changed = || Error::InputChanged { what: "src" };
     for (k, (u, v)) in src.iter().zip(dst).enumerate() {
-        let slot = &mut cursor[u.to_usize()];
-        indices[*slot] = *v;
+        ticker.tick()?;
+        let slot = cursor.get_mut(u.to_usize()).ok_or_else(changed)?;
+        *indices.get_mut(*slot).ok_or_else(changed)? = *v;
         if with_edge_ids {
-            edge_ids[*slot] = I::from_usize(k);
+            *edge_ids.get_mut(*slot).ok_or_else(changed)? = I::from_usize(k);
         }
         *slot += 1;
     }

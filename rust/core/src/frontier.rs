@@ -128,9 +128,13 @@ impl Ready {
                 // Ties go to the smaller id, as in every priority policy.
                 let mut node_at = alloc::with_capacity("frontier ranks", n)?;
                 node_at.extend(0..n);
-                node_at.sort_unstable_by_key(|&v| (values.rank(v) ^ flip, v));
+                crate::interrupt::sort_by_distinct_key(&mut node_at, |&v| {
+                    (values.rank(v) ^ flip, v)
+                })?;
                 let mut rank_of = alloc::filled("frontier ranks", n, 0usize)?;
+                let mut ticker = Ticker::new();
                 for (rank, &v) in node_at.iter().enumerate() {
+                    ticker.tick()?;
                     rank_of[v] = rank;
                 }
                 Ready::Ranked { heap: IdHeap::new(false), rank_of, node_at }

@@ -91,7 +91,14 @@ pub(crate) fn finish<I: Idx, P: Idx, C: Count>(
     if order.len() == n {
         return Ok(Outcome { order, blocked: Vec::new(), cycle: Vec::new() });
     }
-    let blocked: Vec<I> = (0..n).filter(|&v| !indegree[v].is_zero()).map(I::from_usize).collect();
+    let mut ticker = Ticker::new();
+    let mut blocked: Vec<I> = Vec::new();
+    for (v, left) in indegree.iter().enumerate() {
+        ticker.tick()?;
+        if !left.is_zero() {
+            blocked.push(I::from_usize(v));
+        }
+    }
     let Some(first) = blocked.first() else {
         return Err(Error::InputChanged { what: "indices" });
     };
@@ -112,13 +119,14 @@ impl<I: Idx, P: Idx, C: Count> WithReady for Loop<'_, '_, I, P, C> {
     fn run<R: ReadySet>(self, mut ready: R) -> Result<(), Error> {
         let Loop { csr, indegree, order } = self;
         let n = csr.n();
+        let mut ticker = Ticker::new();
         for (v, d) in indegree.iter().enumerate() {
+            ticker.tick()?;
             if d.is_zero() {
                 ready.push(v);
             }
         }
         let (indptr, indices) = (csr.indptr(), csr.indices());
-        let mut ticker = Ticker::new();
         while let Some(u) = ready.pop() {
             // Pushed items are node ids (< n), and each is pushed once while
             // the input holds still; a changed input must not overrun `order`.
@@ -163,11 +171,15 @@ fn cycle_among_blocked<I: Idx, P: Idx, C: Count>(
     let none = usize::MAX;
     let changed = Error::InputChanged { what: "indices" };
     let mut pred = alloc::filled("cycle search", n, none)?;
+    let mut ticker = Ticker::new();
     for u in 0..n {
+        ticker.tick()?;
         if remaining[u].is_zero() {
             continue;
         }
-        for &v in csr.checked_row(u)? {
+        let row = csr.checked_row(u)?;
+        ticker.tick_by(row.len())?;
+        for &v in row {
             let v = v.to_usize();
             if v >= n {
                 return Err(changed);

@@ -11,6 +11,7 @@
 //! more than the loop), so every thread count now runs the serial loop and
 //! gives the same result by construction.
 
+use crate::interrupt::Ticker;
 use crate::sweep::{fifo_sweep, settle_backward, Acyclic, Disjoint, LevelOrder};
 use crate::{alloc, Csr, Error, Idx};
 
@@ -33,8 +34,11 @@ pub fn levels_from<I: Idx>(levels: &LevelOrder<I>, threads: usize) -> Result<Vec
     let _ = threads;
     let n = levels.order.len();
     let mut level = alloc::filled("levels", n, I::default())?;
+    let mut ticker = Ticker::new();
     for (k, group) in levels.offsets.windows(2).enumerate() {
-        for v in levels.order.get(group[0]..group[1]).unwrap_or_default() {
+        let group = levels.order.get(group[0]..group[1]).unwrap_or_default();
+        ticker.tick_by(group.len() + 1)?;
+        for v in group {
             if let Some(slot) = level.get_mut(v.to_usize()) {
                 *slot = I::from_usize(k);
             }
@@ -47,7 +51,9 @@ pub fn levels_from<I: Idx>(levels: &LevelOrder<I>, threads: usize) -> Result<Vec
 pub fn grouped<I: Idx>(level: &[I], offsets: &[usize]) -> Result<Vec<I>, Error> {
     let mut cursor = offsets.to_vec();
     let mut nodes = alloc::filled("grouped levels", level.len(), I::default())?;
+    let mut ticker = Ticker::new();
     for (v, k) in level.iter().enumerate() {
+        ticker.tick()?;
         let slot = &mut cursor[k.to_usize()];
         nodes[*slot] = I::from_usize(v);
         *slot += 1;

@@ -241,7 +241,9 @@ fn heaviest_edges(w: &[f64], k: usize) -> Result<Vec<usize>, Error> {
     if k <= 64 {
         // One sequential scan keeping the best k so far, heaviest first.
         let mut best: Vec<(f64, usize)> = Vec::with_capacity(k + 1);
+        let mut ticker = Ticker::new();
         for (e, &x) in w.iter().enumerate() {
+            ticker.tick()?;
             if best.len() == k && best.last().is_none_or(|&(low, _)| x <= low) {
                 continue;
             }

@@ -17,7 +17,7 @@
 //! nodes: over all node pairs (Kendall-style, by merge-sort inversion count,
 //! O(V log V)), over consecutive steps, and over the edges.
 
-use crate::interrupt::Ticker;
+use crate::interrupt::{Ticker, STRIDE};
 use crate::verify::{positions, Violation};
 use crate::{alloc, Csr, Error, Idx};
 
@@ -50,7 +50,7 @@ pub fn order_metrics<I: Idx, W: Idx, J: Idx>(
     order: &[J],
 ) -> Result<Result<OrderMetrics<I>, Violation>, Error> {
     let n = csr.n();
-    let position = match positions(order, n) {
+    let position = match positions(order, n)? {
         Ok(position) => position,
         Err(violation) => {
             csr.check_indices()?;
@@ -75,14 +75,17 @@ fn measure<I: Idx, W: Idx, J: Idx, P: Idx>(
 ) -> Result<Result<OrderMetrics<I>, Violation>, Error> {
     let n = csr.n();
     // slot[v] = (pos(v), ready_at(v)).
+    let mut ticker = Ticker::new();
     let mut slot: Vec<(P, P)> = alloc::with_capacity("order metrics", n)?;
-    slot.extend(position.iter().map(|p| (P::from_usize(p.to_usize()), P::default())));
+    for part in position.chunks(STRIDE as usize) {
+        ticker.tick_by(part.len())?;
+        slot.extend(part.iter().map(|p| (P::from_usize(p.to_usize()), P::default())));
+    }
     // live_change[t]: nodes becoming live at step t minus nodes ceasing to be.
     let mut live_change = alloc::filled("order metrics", n + 1, 0i64)?;
     let mut span_total: u128 = 0;
     let mut span_max = 0usize;
     let mut live_total: u128 = 0;
-    let mut ticker = Ticker::new();
     for u in 0..n {
         let pos_u = slot[u].0.to_usize();
         let mut last = pos_u;
@@ -120,6 +123,7 @@ fn measure<I: Idx, W: Idx, J: Idx, P: Idx>(
     let mut became_ready = alloc::filled("order metrics", n + 1, 0usize)?;
     let mut ready_total: u128 = 0;
     for &(pos_v, ready_v) in &slot {
+        ticker.tick()?;
         became_ready[ready_v.to_usize()] += 1;
         ready_total += (pos_v.to_usize() + 1 - ready_v.to_usize()) as u128;
     }
@@ -128,6 +132,7 @@ fn measure<I: Idx, W: Idx, J: Idx, P: Idx>(
     let (mut ready_so_far, mut live) = (0usize, 0i64);
     let (mut ready_peak, mut live_peak) = (0usize, 0usize);
     for t in 0..n {
+        ticker.tick()?;
         ready_so_far += became_ready[t];
         let ready = ready_so_far - t;
         ready_peak = ready_peak.max(ready);
@@ -187,11 +192,13 @@ pub fn key_agreement<I: Idx, W: Idx, J: Idx>(
     }
     let out_of_range =
         |what, position: usize, value: i128| Error::IndexOutOfRange { what, position, value, n };
-    if let Some(node) = rank.iter().position(|&r| r < 0 || r as usize >= n.max(1)) {
+    if let Some(node) = crate::interrupt::position(rank, |&r| r < 0 || r as usize >= n.max(1))? {
         return Err(out_of_range("key rank", node, rank[node] as i128));
     }
-    let mut sequence = Vec::with_capacity(n);
+    let mut ticker = Ticker::new();
+    let mut sequence = alloc::with_capacity("key agreement", n)?;
     for (position, v) in order.iter().enumerate() {
+        ticker.tick()?;
         match rank.get(v.to_usize()) {
             Some(&r) => sequence.push(r as usize),
             None => return Err(out_of_range("order", position, v.to_i128())),
@@ -200,27 +207,29 @@ pub fn key_agreement<I: Idx, W: Idx, J: Idx>(
 
     let mut steps = Agreement::default();
     for pair in sequence.windows(2) {
+        ticker.tick()?;
         tally(&mut steps, pair[0], pair[1]);
     }
     let mut edges = Agreement::default();
-    let indices = csr.indices();
     for u in 0..n {
-        for edge in csr.row_range(u) {
-            let v = indices[edge].to_usize();
-            let Some(&rank_v) = rank.get(v) else {
-                return Err(out_of_range("indices", edge, indices[edge].to_i128()));
+        let (start, row) = csr.checked_row_at(u)?;
+        ticker.tick_by(row.len() + 1)?;
+        for (offset, v) in row.iter().enumerate() {
+            let Some(&rank_v) = rank.get(v.to_usize()) else {
+                return Err(out_of_range("indices", start + offset, v.to_i128()));
             };
             tally(&mut edges, rank[u] as usize, rank_v as usize);
         }
     }
 
-    let mut group = vec![0usize; n];
+    let mut group = alloc::filled("key agreement", n, 0usize)?;
     for &r in &sequence {
+        ticker.tick()?;
         group[r] += 1;
     }
     let tied: u128 = group.iter().map(|&c| (c as u128) * (c as u128).saturating_sub(1) / 2).sum();
     let all = (n as u128) * (n as u128).saturating_sub(1) / 2;
-    let disagree = count_inversions(&mut sequence);
+    let disagree = count_inversions(&mut sequence, &mut ticker)?;
     let pairs = Agreement { agree: all - disagree - tied, disagree, tied };
     Ok(KeyAgreement { pairs, steps, edges })
 }
@@ -236,9 +245,9 @@ fn tally(into: &mut Agreement, first: usize, second: usize) {
 
 /// Number of pairs `i < j` with `values[i] > values[j]` (equal values are
 /// not inversions), by bottom-up merge sort; sorts `values`.
-fn count_inversions(values: &mut Vec<usize>) -> u128 {
+fn count_inversions(values: &mut Vec<usize>, ticker: &mut Ticker) -> Result<u128, Error> {
     let n = values.len();
-    let mut buffer = vec![0usize; n];
+    let mut buffer = alloc::filled("key agreement", n, 0usize)?;
     let mut inversions: u128 = 0;
     let mut width = 1;
     while width < n {
@@ -247,6 +256,7 @@ fn count_inversions(values: &mut Vec<usize>) -> u128 {
             let right = (left + 2 * width).min(n);
             let (mut i, mut j, mut k) = (left, middle, left);
             while i < middle && j < right {
+                ticker.tick()?;
                 if values[i] <= values[j] {
                     buffer[k] = values[i];
                     i += 1;
@@ -264,7 +274,7 @@ fn count_inversions(values: &mut Vec<usize>) -> u128 {
         std::mem::swap(values, &mut buffer);
         width *= 2;
     }
-    inversions
+    Ok(inversions)
 }
 
 #[cfg(test)]

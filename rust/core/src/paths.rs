@@ -14,6 +14,7 @@
 
 use std::sync::atomic::{AtomicBool, Ordering::Relaxed};
 
+use crate::interrupt::Ticker;
 use crate::sweep::{fifo_sweep, forward, settle_backward, Acyclic, Disjoint, LevelOrder};
 use crate::{alloc, Csr, Error, Idx};
 
@@ -277,7 +278,9 @@ pub(crate) fn count_paths<I: Idx, P: Idx, A: Arithmetic, T: Terms<A>>(
         unsafe { to_cells.set(u, sum) }
     })?;
     let mut total = A::ZERO;
+    let mut ticker = Ticker::new();
     for (u, &count) in from.iter().enumerate() {
+        ticker.tick()?;
         let end = terms.end(u, csr.checked_row(u)?.is_empty());
         if end != A::ZERO {
             total = checked(total.add(checked(count.mul(end))));

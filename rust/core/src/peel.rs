@@ -140,10 +140,11 @@ pub fn peel<I: Idx>(
             return Err(Error::TooLarge { what: "level", count: next, max: I::MAX_USIZE });
         }
         let next = I::from_usize(next);
-        let range = csr.row_range(u);
-        ticker.tick_by(range.len() + 1)?;
-        for position in range {
-            let t = shard.targets[position].to_usize();
+        let (start, row) = csr.checked_row_at(u)?;
+        ticker.tick_by(row.len() + 1)?;
+        for (offset, target) in row.iter().enumerate() {
+            let position = start + offset;
+            let t = target.to_usize();
             if t < n {
                 let have = remaining[t].to_usize();
                 if have == 0 {
@@ -167,7 +168,7 @@ pub fn peel<I: Idx>(
                 return Err(Error::IndexOutOfRange {
                     what: "targets",
                     position,
-                    value: shard.targets[position].to_i128(),
+                    value: target.to_i128(),
                     n: limit,
                 });
             }

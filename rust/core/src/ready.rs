@@ -72,7 +72,7 @@ impl KeyValues<'_> {
             return Err(Error::LengthMismatch { what: "key", expected: n, got: self.len() });
         }
         if let KeyValues::F64(v) = self {
-            if let Some(node) = v.iter().position(|x| x.is_nan()) {
+            if let Some(node) = crate::interrupt::position(v, |x| x.is_nan())? {
                 return Err(Error::NanKey { node });
             }
         }

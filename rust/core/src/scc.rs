@@ -194,6 +194,17 @@ fn search<I: Idx, P: Idx, S: Slot<I>>(
     // (Pearce's invariant, with the count starting one higher than in the
     // paper so the two ranges never touch), so comparisons tell them apart.
     let mut slots: Vec<S> = alloc::filled("component search slots", n, S::default())?;
+    // The bounds of row `u`, checked against `indices` once when the row is
+    // entered, so every later read of it is in bounds even if the caller
+    // changes `indptr` meanwhile (then the call ends with InputChanged).
+    let row_bounds = |u: usize| -> Result<(P, P), Error> {
+        match indptr.get(u..u.wrapping_add(2)) {
+            Some(&[start, end]) if start <= end && end.to_usize() <= indices.len() => {
+                Ok((start, end))
+            }
+            _ => Err(Error::InputChanged { what: "indptr" }),
+        }
+    };
     let mut ticker = Ticker::new();
     let mut path: Vec<Frame<I, P>> = Vec::new();
     let mut open: Vec<I> = Vec::new();
@@ -204,34 +215,35 @@ fn search<I: Idx, P: Idx, S: Slot<I>>(
         if slots[start].rindex().to_usize() != 0 {
             continue;
         }
-        ticker.tick_by(indptr[start + 1].to_usize() - indptr[start].to_usize() + 1)?;
+        let (next, end) = row_bounds(start)?;
+        ticker.tick_by(end.to_usize() - next.to_usize() + 1)?;
         slots[start].set_rindex(I::from_usize(index));
         index += 1;
-        path.push(Frame {
-            node: I::from_usize(start),
-            next: indptr[start],
-            end: indptr[start + 1],
-            root: true,
-        });
+        path.push(Frame { node: I::from_usize(start), next, end, root: true });
         'path: while let Some(frame) = path.last_mut() {
             let v = frame.node.to_usize();
             let mut low = slots[v].rindex();
             let (mut next, end) = (frame.next.to_usize(), frame.end.to_usize());
             while next < end {
+                // In bounds: `end` was checked against `indices` (row_bounds).
                 let w = indices[next].to_usize();
                 next += 1;
-                let slot = &mut slots[w];
+                // Endpoints were checked (check_indices), but may have changed since.
+                let Some(slot) = slots.get_mut(w) else {
+                    return Err(Error::InputChanged { what: "indices" });
+                };
                 let rw = slot.rindex();
                 if rw.to_usize() == 0 {
-                    ticker.tick_by(indptr[w + 1].to_usize() - indptr[w].to_usize() + 1)?;
+                    let (w_next, w_end) = row_bounds(w)?;
+                    ticker.tick_by(w_end.to_usize() - w_next.to_usize() + 1)?;
                     frame.next = P::from_usize(next);
                     slot.set_rindex(I::from_usize(index));
                     slots[v].set_rindex(low);
                     index += 1;
                     path.push(Frame {
                         node: I::from_usize(w),
-                        next: indptr[w],
-                        end: indptr[w + 1],
+                        next: w_next,
+                        end: w_end,
                         root: true,
                     });
                     continue 'path;
@@ -316,10 +328,13 @@ pub fn condensation<I: Idx, P: Idx>(
     row_start.push(0usize);
     for c in 0..count {
         for &u in &members[start[c]..start[c + 1]] {
-            let row = csr.row(u.to_usize());
+            let row = csr.checked_row(u.to_usize())?;
             ticker.tick_by(row.len() + 1)?;
             for &v in row {
-                let d = labels[v.to_usize()].to_usize();
+                let Some(d) = labels.get(v.to_usize()) else {
+                    return Err(Error::InputChanged { what: "indices" });
+                };
+                let d = d.to_usize();
                 if d == c {
                     continue;
                 }
@@ -395,6 +410,28 @@ pub(crate) mod tests {
         }
         let g = edges_to_csr(&src, &dst, n, false).unwrap();
         (g.indptr, g.indices)
+    }
+
+    #[test]
+    fn rows_changed_after_the_checks_end_the_search_with_input_changed() {
+        // Valid: 0 -> 1 -> 0. Then indptr is changed so that a row runs
+        // past `indices`, or decreases: the search must stop with
+        // InputChanged, never index out of bounds (a panic).
+        for indptr in [[0i64, 1, 9], [0, 2, 1], [0, 7, 2]] {
+            let g = Csr::unchecked(&indptr[..], &[1i64, 0][..]);
+            assert_eq!(
+                strong_components(&g).unwrap_err(),
+                Error::InputChanged { what: "indptr" },
+                "{indptr:?}"
+            );
+            assert_eq!(
+                strong_components_with_entries(&g).unwrap_err(),
+                Error::InputChanged { what: "indptr" }
+            );
+        }
+        let valid = Components { labels: vec![0i64, 0], count: 1 };
+        let g = Csr::unchecked(&[0i64, 1, 9][..], &[1i64, 0][..]);
+        assert_eq!(condensation(&g, &valid).unwrap_err(), Error::InputChanged { what: "indptr" });
     }
 
     /// Reachability by repeated relaxation (Warshall's transitive closure).

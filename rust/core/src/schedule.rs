@@ -137,7 +137,9 @@ fn total_work<T: Duration>(durations: &[T], n: usize) -> Result<T, Error> {
         return Err(Error::LengthMismatch { what: "duration", expected: n, got: durations.len() });
     }
     let mut total = T::ZERO;
+    let mut ticker = Ticker::new();
     for (node, &d) in durations.iter().enumerate() {
+        ticker.tick()?;
         if !d.is_valid() {
             return Err(Error::InvalidDuration { node, value: d.show() });
         }
@@ -201,7 +203,11 @@ pub fn list_schedule<I: Idx, P: Idx, T: Duration>(
             };
             // Complemented so that the smallest key is the largest level.
             let mut complemented = alloc::with_capacity("critical ranks", n)?;
-            complemented.extend(level.iter().map(|l| !l.sort_key()));
+            let mut ticker = Ticker::new();
+            for part in level.chunks(crate::interrupt::STRIDE as usize) {
+                ticker.tick_by(part.len())?;
+                complemented.extend(part.iter().map(|l| !l.sort_key()));
+            }
             simulate.run(critical(&complemented))
         }
     }
@@ -224,9 +230,14 @@ impl<I: Idx, P: Idx, T: Duration> WithReady for Simulate<'_, '_, I, P, T> {
         let changed = Error::InputChanged { what: "indices" };
         // Per task: earliest start and predecessors still running, side by
         // side so an edge costs one random memory access, not two.
+        let mut ticker = Ticker::new();
         let mut waiting: Vec<(T, u64)> = alloc::with_capacity("schedule", n)?;
-        waiting.extend(csr.in_degrees()?.into_iter().map(|d| (T::ZERO, d.to_usize() as u64)));
+        for part in csr.in_degrees()?.chunks(crate::interrupt::STRIDE as usize) {
+            ticker.tick_by(part.len())?;
+            waiting.extend(part.iter().map(|d| (T::ZERO, d.to_usize() as u64)));
+        }
         for (v, &(_, left)) in waiting.iter().enumerate() {
+            ticker.tick()?;
             if left == 0 {
                 ready.push(v);
             }
@@ -246,7 +257,6 @@ impl<I: Idx, P: Idx, T: Duration> WithReady for Simulate<'_, '_, I, P, T> {
         let mut critical_path = T::ZERO;
         // Every sum below is at most the total work, checked above.
         let add = |a: T, b: T| a.checked_sum(b).unwrap_or(a);
-        let mut ticker = Ticker::new();
 
         loop {
             while let Some(&Reverse(w)) = free.peek() {

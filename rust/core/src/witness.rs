@@ -33,7 +33,7 @@ pub fn shortest_cycle_through<I: Idx, P: Idx>(
     while head < queue.len() {
         let u = queue[head];
         head += 1;
-        let row = csr.row(u);
+        let row = csr.checked_row(u)?;
         ticker.tick_by(row.len() + 1)?;
         for &w in row {
             let w = w.to_usize();
@@ -48,8 +48,11 @@ pub fn shortest_cycle_through<I: Idx, P: Idx>(
                 cycle.reverse();
                 return Ok(Some(cycle));
             }
-            if parent[w] == unseen {
-                parent[w] = I::from_usize(u);
+            let Some(slot) = parent.get_mut(w) else {
+                return Err(Error::InputChanged { what: "indices" });
+            };
+            if *slot == unseen {
+                *slot = I::from_usize(u);
                 queue.push(w);
             }
         }
@@ -65,7 +68,7 @@ pub fn find_cycle<I: Idx, P: Idx>(csr: &Csr<'_, I, P>) -> Result<Option<Vec<I>>,
     let mut ticker = Ticker::new();
     let mut on_cycle = None;
     for v in 0..csr.n() {
-        let row = csr.row(v);
+        let row = csr.checked_row(v)?;
         ticker.tick_by(row.len() + 1)?;
         if sizes[components.labels[v].to_usize()].to_usize() > 1
             || row.iter().any(|w| w.to_usize() == v)
@@ -136,7 +139,7 @@ pub fn component_witnesses<I: Idx, P: Idx>(csr: &Csr<'_, I, P>) -> Result<Witnes
         }
         let label = I::from_usize(c);
         if sizes[c].to_usize() < 2 {
-            let row = csr.row(start);
+            let row = csr.checked_row(start)?;
             ticker.tick_by(row.len())?;
             if !row.iter().any(|w| w.to_usize() == start) {
                 continue;
@@ -150,11 +153,11 @@ pub fn component_witnesses<I: Idx, P: Idx>(csr: &Csr<'_, I, P>) -> Result<Witnes
         'search: while head < queue.len() {
             let u = queue[head];
             head += 1;
-            let row = csr.row(u);
+            let row = csr.checked_row(u)?;
             ticker.tick_by(row.len() + 1)?;
             for &w in row {
                 let w = w.to_usize();
-                if labels[w] != label {
+                if labels.get(w) != Some(&label) {
                     continue;
                 }
                 if w == start {

@@ -272,7 +272,7 @@ fn positions<'py>(
 ) -> PyResult<Bound<'py, PyAny>> {
     let order = read::<i64>(order, "order", ORDER_DTYPE)?;
     let order = order.values()?;
-    match compute(py, || Ok(verify::positions(order, n)))? {
+    match compute(py, || verify::positions(order, n))? {
         Ok(position) => Ok(array(py, position).into_bound(py)),
         Err(found) => Ok(Bound::new(py, Violation::from(found))?.into_any()),
     }
