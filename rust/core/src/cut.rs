@@ -741,29 +741,35 @@ fn put_back<I: Idx, P: Idx, L: Idx>(
     Ok(untested)
 }
 
-/// A copy of `csr` without the edges at the given stored positions (ascending).
-pub fn without_edges<I: Idx, P: Idx>(csr: &Csr<'_, I, P>, removed: &[usize]) -> (Vec<P>, Vec<I>) {
-    let mut indptr = Vec::with_capacity(csr.n() + 1);
-    let mut indices = Vec::with_capacity(csr.m() - removed.len().min(csr.m()));
+/// A copy of `csr` without the edges at the given stored positions
+/// (ascending); [`Error::InputChanged`] if `indptr` changed during the call.
+pub fn without_edges<I: Idx, P: Idx>(
+    csr: &Csr<'_, I, P>,
+    removed: &[usize],
+) -> Result<(Vec<P>, Vec<I>), Error> {
+    let mut indptr = alloc::with_capacity("cut: rest offsets", csr.n() + 1)?;
+    let mut indices =
+        alloc::with_capacity("cut: rest edges", csr.m() - removed.len().min(csr.m()))?;
     let mut skip = removed.iter().peekable();
+    let mut ticker = Ticker::new();
     indptr.push(P::default());
     for u in 0..csr.n() {
-        for k in csr.row_range(u) {
-            if skip.peek() == Some(&&k) {
-                skip.next();
-            } else {
-                indices.push(csr.indices()[k]);
+        let (first, row) = csr.checked_row_at(u)?;
+        ticker.tick_by(row.len() + 1)?;
+        for (j, &v) in row.iter().enumerate() {
+            if skip.next_if_eq(&&(first + j)).is_none() {
+                indices.push(v);
             }
         }
         indptr.push(P::from_usize(indices.len()));
     }
-    (indptr, indices)
+    Ok((indptr, indices))
 }
 
 /// Kahn's order under `tie` of the graph left by [`cut_cycles`].
 pub fn cut_order<I: Idx, P: Idx>(csr: &Csr<'_, I, P>, tie: &Tie<'_>) -> Result<Vec<I>, Error> {
     let cut = cut_cycles(csr)?;
-    let (indptr, indices) = without_edges(csr, &cut.removed);
+    let (indptr, indices) = without_edges(csr, &cut.removed)?;
     let rest = Csr::from_arrays(&indptr, &indices)?;
     let outcome = kahn(&rest, tie)?;
     debug_assert!(outcome.is_complete(), "the cut leaves a DAG");
@@ -779,7 +785,7 @@ mod tests {
     use crate::verify::verify;
 
     fn rest_of(indptr: &[i64], indices: &[i64], removed: &[usize]) -> (Vec<i64>, Vec<i64>) {
-        without_edges(&Csr::new(indptr, indices).unwrap(), removed)
+        without_edges(&Csr::new(indptr, indices).unwrap(), removed).unwrap()
     }
 
     #[test]
@@ -917,7 +923,7 @@ mod tests {
     /// (breadth-first search). Returns how many cut edges do not.
     fn check_cut(indptr: &[i64], indices: &[i64], cut: &Cut<i64>) -> usize {
         let g = Csr::new(indptr, indices).unwrap();
-        let (rp, ri) = without_edges(&g, &cut.removed);
+        let (rp, ri) = without_edges(&g, &cut.removed).unwrap();
         let rest = Csr::new(&rp, &ri).unwrap();
         assert!(kahn(&rest, &Tie::Queue).unwrap().is_complete(), "the rest is a DAG");
         assert_eq!(verify(&rest, &cut.order).unwrap(), None, "order of the rest");
@@ -946,7 +952,7 @@ mod tests {
             .find(|&size| {
                 (0u32..1 << m).filter(|mask| mask.count_ones() as usize == size).any(|mask| {
                     let removed: Vec<usize> = (0..m).filter(|&k| mask >> k & 1 == 1).collect();
-                    let (rp, ri) = without_edges(&g, &removed);
+                    let (rp, ri) = without_edges(&g, &removed).unwrap();
                     kahn(&Csr::new(&rp, &ri).unwrap(), &Tie::Queue).unwrap().is_complete()
                 })
             })
