@@ -139,11 +139,60 @@ fn none<L: Idx>() -> L {
 pub fn cut_cycles<I: Idx, P: Idx>(csr: &Csr<'_, I, P>) -> Result<Cut<I>, Error> {
     // Local node ids, edge numbers, ranks, search rounds and bin numbers
     // (up to 3 + 2 x edges) all stay below 4 x edges.
-    if csr.m() < (u32::MAX as usize) / 4 {
+    let small = csr.m() < (u32::MAX as usize) / 4 && csr.n() < u32::MAX as usize;
+    if small && std::mem::size_of::<I>().max(std::mem::size_of::<P>()) > 4 {
+        // Wide arrays of a graph that fits 32 bits: the searches below read
+        // rows at random, and a 32-bit copy (one sequential pass) halves the
+        // bytes they bring in.
+        let (indptr, indices) = narrowed(csr)?;
+        let cut = cut_with::<u32, u32, u32>(&Csr::from_arrays(&indptr, &indices)?)?;
+        let widen = |ids: Vec<u32>| -> Result<Vec<I>, Error> {
+            let mut wide = alloc::with_capacity("cut: node ids", ids.len())?;
+            wide.extend(ids.into_iter().map(|v| I::from_usize(v as usize)));
+            Ok(wide)
+        };
+        return Ok(Cut {
+            removed: cut.removed,
+            sources: widen(cut.sources)?,
+            order: widen(cut.order)?,
+            untested: cut.untested,
+        });
+    }
+    if small {
         cut_with::<I, P, u32>(csr)
     } else {
         cut_with::<I, P, u64>(csr)
     }
+}
+
+/// A 32-bit copy of `csr` (whose node and edge counts fit), with every
+/// value checked: a value that changed since the checks is an error.
+fn narrowed<I: Idx, P: Idx>(csr: &Csr<'_, I, P>) -> Result<(Vec<u32>, Vec<u32>), Error> {
+    let (n, m) = (csr.n(), csr.m());
+    let mut ticker = Ticker::new();
+    let mut indptr = alloc::with_capacity("cut: 32-bit offsets", n + 1)?;
+    for chunk in csr.indptr().chunks(1 << 16) {
+        ticker.tick_by(chunk.len())?;
+        for &p in chunk {
+            let p = p.to_usize();
+            if p > m {
+                return Err(Error::InputChanged { what: "indptr" });
+            }
+            indptr.push(p as u32);
+        }
+    }
+    let mut indices = alloc::with_capacity("cut: 32-bit ids", m)?;
+    for chunk in csr.indices().chunks(1 << 16) {
+        ticker.tick_by(chunk.len())?;
+        for &v in chunk {
+            let v = v.to_usize();
+            if v >= n {
+                return Err(Error::InputChanged { what: "indices" });
+            }
+            indices.push(v as u32);
+        }
+    }
+    Ok((indptr, indices))
 }
 
 fn cut_with<I: Idx, P: Idx, L: Idx>(csr: &Csr<'_, I, P>) -> Result<Cut<I>, Error> {
