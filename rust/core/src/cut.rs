@@ -445,6 +445,18 @@ impl<L: Idx> Bins<L> {
         self.head[bin] = self.entries[entry].1;
     }
 
+    /// The node of the entry below the top of `bin`, stale or not (a hint).
+    #[inline(always)]
+    fn below_top(&self, bin: usize) -> Option<usize> {
+        let nil = none::<L>();
+        let top = self.head[bin];
+        if top == nil {
+            return None;
+        }
+        let below = self.entries[top.to_usize()].1;
+        (below != nil).then(|| self.entries[below.to_usize()].0.to_usize())
+    }
+
     /// The node on top of `bin`, dropping stale entries on the way.
     #[inline(always)]
     fn top(&mut self, state: &[NodeState<L>], bin: usize) -> Option<usize> {
@@ -511,12 +523,12 @@ fn greedy_sequence<I: Idx, P: Idx, L: Idx>(
     let mut front = alloc::with_capacity("cut: sequence", h)?;
     let mut back = Vec::new();
     loop {
-        let u = if let Some(u) = lists.top(&state, SINKS) {
+        let (u, from) = if let Some(u) = lists.top(&state, SINKS) {
             back.push(L::from_usize(u));
-            u
+            (u, SINKS)
         } else if let Some(u) = lists.top(&state, SOURCES) {
             front.push(L::from_usize(u));
-            u
+            (u, SOURCES)
         } else {
             // A node's entry may sit above its bin (a lost out-edge lowers
             // the bin without a new entry); such a node moves down when met.
@@ -544,10 +556,16 @@ fn greedy_sequence<I: Idx, P: Idx, L: Idx>(
                 }
             }
             front.push(L::from_usize(u));
-            u
+            (u, top)
         };
         ticker.tick_by(g.out_edges(u).len() + g.in_entries(u).len() + 1)?;
         state[u].bin = placed;
+        // The node below `u` in its bin is the likeliest next pick: its rows
+        // are asked for now, while `u`'s neighbours are updated.
+        if let Some(next) = lists.below_top(from) {
+            prefetch(g.fwd_target.as_ptr().wrapping_add(g.fwd_start[next].to_usize()));
+            prefetch(g.rev.as_ptr().wrapping_add(g.rev_start[next].to_usize()));
+        }
         // The neighbours' states are read at random: ask for all of them
         // before the first is needed.
         for e in g.out_edges(u) {
