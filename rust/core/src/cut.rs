@@ -607,14 +607,15 @@ fn greedy_sequence<I: Idx, P: Idx, L: Idx>(
 const CLASSES: usize = usize::BITS as usize + 1;
 
 /// The edges going backwards in `rank`, flagged in `is_cut`, as
-/// `(source, edge)` ordered by the distance between the ranks of their
-/// ends, by powers of two (stored order within one class). Two passes over the edges and a counting sort: linear.
+/// `(source, target, edge)` ordered by the distance between the ranks of
+/// their ends, by powers of two (stored order within one class). Two passes
+/// over the edges and a counting sort: linear.
 fn candidates_by_distance<I: Idx, P: Idx, L: Idx>(
     g: &Inner<I, P, L>,
     rank: &[L],
     is_cut: &mut [bool],
     ticker: &mut Ticker,
-) -> Result<Vec<(L, L)>, Error> {
+) -> Result<Vec<(L, L, L)>, Error> {
     let mut classes: Vec<u8> = Vec::new();
     let mut start = [0usize; CLASSES + 1];
     for u in 0..g.nodes() {
@@ -633,13 +634,14 @@ fn candidates_by_distance<I: Idx, P: Idx, L: Idx>(
     for k in 0..CLASSES {
         start[k + 1] += start[k];
     }
-    let mut sorted = alloc::filled("cut: candidates", classes.len(), (L::default(), L::default()))?;
+    let zero = L::default();
+    let mut sorted = alloc::filled("cut: candidates", classes.len(), (zero, zero, zero))?;
     let mut next = 0usize;
     for u in 0..g.nodes() {
         ticker.tick_by(g.out_edges(u).len() + 1)?;
         for e in g.out_edges(u).filter(|&e| is_cut[e]) {
             let slot = &mut start[classes[next] as usize];
-            sorted[*slot] = (L::from_usize(u), L::from_usize(e));
+            sorted[*slot] = (L::from_usize(u), g.fwd_target[e], L::from_usize(e));
             *slot += 1;
             next += 1;
         }
@@ -660,7 +662,7 @@ pub const PUT_BACK_LEAST: usize = 64;
 const YIELD_WINDOW: usize = 256;
 const YIELD_SHARE: usize = 8;
 
-/// Pearce–Kelly put-back of the candidate edges `(source, edge)`, in order,
+/// Pearce–Kelly put-back of the candidate edges `(source, target, edge)`, in order,
 /// with the two searches run in turns (see the module documentation).
 /// Returns how many candidates stayed cut untested because their test ran
 /// out of search budget or was not started.
@@ -668,7 +670,7 @@ fn put_back<I: Idx, P: Idx, L: Idx>(
     g: &Inner<I, P, L>,
     rank: &mut [L],
     is_cut: &mut [bool],
-    candidates: &[(L, L)],
+    candidates: &[(L, L, L)],
     ticker: &mut Ticker,
 ) -> Result<usize, Error> {
     let h = g.nodes();
@@ -689,9 +691,17 @@ fn put_back<I: Idx, P: Idx, L: Idx>(
     // tests are still started (see `YIELD_WINDOW`).
     let (mut started, mut decided) = (0usize, 0usize);
     let mut testing = true;
-    for (round, &(x, e)) in candidates.iter().enumerate() {
-        let (x, e) = (x.to_usize(), e.to_usize());
-        let y = g.target(e);
+    // Nodes whose rank a put-back changed, one bit each: while neither end
+    // of a candidate is among them, it still goes backwards, and once no
+    // test is started its ranks need not be read.
+    let mut moved = alloc::filled("cut: moved nodes", h.div_ceil(64), 0u64)?;
+    let is_moved = |moved: &[u64], a: usize| moved[a / 64] >> (a % 64) & 1 == 1;
+    for (round, &(x, y, e)) in candidates.iter().enumerate() {
+        let (x, y, e) = (x.to_usize(), y.to_usize(), e.to_usize());
+        if !exact && (budget == 0 || !testing) && !is_moved(&moved, x) && !is_moved(&moved, y) {
+            untested += 1;
+            continue;
+        }
         let (lower, upper) = (rank[y], rank[x]);
         if lower > upper {
             // Earlier reorderings already put x before y.
@@ -802,6 +812,7 @@ fn put_back<I: Idx, P: Idx, L: Idx>(
         pool.sort_unstable();
         for (&a, &r) in backward.iter().chain(forward.iter()).zip(&pool) {
             rank[a] = r;
+            moved[a / 64] |= 1 << (a % 64);
         }
         is_cut[e] = false;
     }
