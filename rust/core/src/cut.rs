@@ -43,8 +43,11 @@
 //! The whole pass has a search budget of [`PUT_BACK_WORK`] times the number
 //! of nodes plus edges of the non-trivial components. A test may spend four
 //! times an even share of what is left, and at least [`PUT_BACK_LEAST`];
-//! once the budget is spent no test is started. A test that runs out or is
-//! not started leaves its edge cut and is counted in [`Cut::untested`]. So
+//! once the budget is spent no test is started. Every 256 tests the pass
+//! also looks back: when fewer than one in eight of them reached a verdict,
+//! it starts no further test (the candidates come nearest first, so the
+//! farther ones would fare no better). A test that runs out or is not
+//! started leaves its edge cut and is counted in [`Cut::untested`]. So
 //! the pass is O((V + E) log(V + E)) (the log from sorting the reordered
 //! nodes). When `untested` is zero, which is always the case for components
 //! totalling at most 4,096 nodes and edges, the cut is minimal: putting back
@@ -55,7 +58,8 @@
 //! them would take a search through much of the graph each.
 //!
 //! Inside the components nodes and edges are renumbered with 32-bit ids when
-//! the graph has fewer than 2^30 edges, 64-bit ids otherwise.
+//! the graph has fewer than 2^30 edges, 64-bit ids otherwise; a graph given
+//! in 64-bit arrays that fits 32 bits is first copied to 32 bits (checked).
 
 use crate::alloc;
 use crate::interrupt::Ticker;
