@@ -210,29 +210,29 @@ fn cut_with<I: Idx, P: Idx, L: Idx>(csr: &Csr<'_, I, P>) -> Result<Cut<I>, Error
     let mut rank = best_sequence_ranks(&inner, &mut ticker)?;
     let mut is_cut = alloc::filled("cut: cut flags", inner.edges(), false)?;
     let candidates = candidates_by_distance(&inner, &rank, &mut is_cut, &mut ticker)?;
-    let untested = put_back(&inner, &mut rank, &mut is_cut, &candidates, &mut ticker)?;
+    let (untested, restored) = put_back(&inner, &mut rank, &mut is_cut, &candidates, &mut ticker)?;
+    let inner_cut = candidates.iter().map(Vec::len).sum::<usize>() - restored;
     drop(candidates);
     // Local edges are numbered in stored order, so the cut ones come out
-    // ascending; merged with the (ascending) self-loops.
-    let mut removed = Vec::new();
-    let mut sources = Vec::new();
-    let mut loops = loops.into_iter().peekable();
+    // ascending. Every edge is written one past the last cut one, and kept
+    // only when cut: on a random tangle a third are, and a branch on it
+    // would be a coin toss.
+    let mut removed = alloc::filled("cut: removed edges", inner_cut + 1, 0usize)?;
+    let mut sources = alloc::filled("cut: removed edge sources", inner_cut + 1, I::default())?;
+    let mut kept = 0usize;
+    let overflow = || Error::Internal { reason: "cut: more edges cut than counted".to_string() };
     for u in 0..h {
         ticker.tick_by(inner.out_edges(u).len() + 1)?;
-        for e in inner.out_edges(u).filter(|&e| is_cut[e]) {
-            let position = inner.fwd_position[e].to_usize();
-            while let Some((k, v)) = loops.next_if(|&(k, _)| k < position) {
-                removed.push(k);
-                sources.push(v);
-            }
-            removed.push(position);
-            sources.push(inner.global[u]);
+        let source = inner.global[u];
+        for e in inner.out_edges(u) {
+            *removed.get_mut(kept).ok_or_else(overflow)? = inner.fwd_position[e].to_usize();
+            *sources.get_mut(kept).ok_or_else(overflow)? = source;
+            kept += is_cut[e] as usize;
         }
     }
-    for (k, v) in loops {
-        removed.push(k);
-        sources.push(v);
-    }
+    removed.truncate(kept);
+    sources.truncate(kept);
+    let (removed, sources) = with_loops(removed, sources, loops, &mut ticker)?;
 
     // Members of each component in label order; the non-trivial ones are
     // then rewritten in their final rank order.
@@ -249,6 +249,37 @@ fn cut_with<I: Idx, P: Idx, L: Idx>(csr: &Csr<'_, I, P>) -> Result<Cut<I>, Error
         *slot += 1;
     }
     Ok(Cut { removed, sources, order: members, untested })
+}
+
+/// The cut edges `(removed, sources)` merged with the self-loops, both
+/// ascending by stored position.
+fn with_loops<I: Idx>(
+    removed: Vec<usize>,
+    sources: Vec<I>,
+    loops: Vec<(usize, I)>,
+    ticker: &mut Ticker,
+) -> Result<(Vec<usize>, Vec<I>), Error> {
+    if loops.is_empty() {
+        return Ok((removed, sources));
+    }
+    let count = removed.len() + loops.len();
+    let mut all = alloc::with_capacity("cut: removed edges", count)?;
+    let mut all_sources = alloc::with_capacity("cut: removed edge sources", count)?;
+    let mut loops = loops.into_iter().peekable();
+    for (k, v) in removed.into_iter().zip(sources) {
+        ticker.tick_by(1)?;
+        while let Some((j, w)) = loops.next_if(|&(j, _)| j < k) {
+            all.push(j);
+            all_sources.push(w);
+        }
+        all.push(k);
+        all_sources.push(v);
+    }
+    for (j, w) in loops {
+        all.push(j);
+        all_sources.push(w);
+    }
+    Ok((all, all_sources))
 }
 
 /// The non-trivial components' edges, renumbered; the stored positions of
@@ -431,6 +462,30 @@ impl<L: Idx> Bins<L> {
         })
     }
 
+    /// [`push`](Self::push) when `really`, else nothing; without a branch
+    /// on `really` (which is as good as random in the update loop).
+    #[inline(always)]
+    fn push_if(
+        &mut self,
+        state: &mut [NodeState<L>],
+        bin: usize,
+        u: usize,
+        really: bool,
+    ) -> Result<(), Error> {
+        let len = self.entries.len();
+        let Some(slot) = self.entries.spare_capacity_mut().first_mut() else {
+            return Err(Error::Internal { reason: "cut: bin arena full".to_string() });
+        };
+        let old = self.head[bin];
+        slot.write((L::from_usize(u), old));
+        // SAFETY: the entry at `len` (within capacity) was just written.
+        unsafe { self.entries.set_len(len + really as usize) };
+        self.head[bin] = if really { L::from_usize(len) } else { old };
+        let kept = state[u].bin;
+        state[u].bin = if really { L::from_usize(bin) } else { kept };
+        Ok(())
+    }
+
     #[inline(always)]
     fn push(&mut self, state: &mut [NodeState<L>], bin: usize, u: usize) -> Result<(), Error> {
         if self.entries.len() == self.entries.capacity() {
@@ -499,9 +554,12 @@ fn greedy_sequence<I: Idx, P: Idx, L: Idx>(
     }));
     let max_in = state.iter().map(|s| s.inn.to_usize()).max().unwrap_or(0);
     let max_out = state.iter().map(|s| s.out.to_usize()).max().unwrap_or(0);
+    // Entries: one per node at the start, per rise and per fall met (each
+    // at most one per edge), per new sink; and one spare slot, which a push
+    // not taken writes.
     let (bins, entries) = match pick {
-        Pick::Difference => (2 + max_in + max_out + 1, 2 * h + 2 * g.edges()),
-        Pick::FewestIn(_) => (2 + max_in + 1, 2 * h + g.edges()),
+        Pick::Difference => (2 + max_in + max_out + 1, 2 * h + 2 * g.edges() + 1),
+        Pick::FewestIn(_) => (2 + max_in + 1, 2 * h + g.edges() + 1),
     };
     let mut lists = Bins::new(bins, entries)?;
     let list_for = |s: &NodeState<L>| -> usize {
@@ -523,6 +581,7 @@ fn greedy_sequence<I: Idx, P: Idx, L: Idx>(
         lists.push(&mut state, bin, u)?;
     }
     let mut top = bins - 1;
+    let (sinks, sources) = (L::from_usize(SINKS), L::from_usize(SOURCES));
     let mut forced_backward = 0usize;
     let mut front = alloc::with_capacity("cut: sequence", h)?;
     let mut back = Vec::new();
@@ -581,25 +640,26 @@ fn greedy_sequence<I: Idx, P: Idx, L: Idx>(
         // A lost in-edge raises a node's bin (or makes it a source): it is
         // pushed again when that takes it above its entry. A lost out-edge
         // lowers it: only a new sink is pushed (see above for the rest).
+        //
+        // The degrees of placed nodes are updated too (they are never read
+        // again, and never go below zero: a placed node still counts each
+        // edge to or from a node placed after it), so that the only branch
+        // left is on the push, taken without a jump.
         for e in g.out_edges(u) {
             let w = g.target(e);
-            if state[w].bin != placed {
-                state[w].inn = L::from_usize(state[w].inn.to_usize() - 1);
-                let to = list_for(&state[w]);
-                let at = state[w].bin.to_usize();
-                if to > at || (to == SOURCES && at != SOURCES) {
-                    lists.push(&mut state, to, w)?;
-                    top = top.max(to);
-                }
-            }
+            state[w].inn = L::from_usize(state[w].inn.to_usize() - 1);
+            let to = list_for(&state[w]);
+            let at = state[w].bin;
+            let rises = to > at.to_usize() || (to == SOURCES && at != sources && at != placed);
+            lists.push_if(&mut state, to, w, rises)?;
+            top = if rises { top.max(to) } else { top };
         }
         for r in g.in_entries(u) {
             let w = g.source_of_entry(r);
-            if state[w].bin != placed {
-                state[w].out = L::from_usize(state[w].out.to_usize() - 1);
-                if state[w].out == L::default() && state[w].bin.to_usize() != SINKS {
-                    lists.push(&mut state, SINKS, w)?;
-                }
+            state[w].out = L::from_usize(state[w].out.to_usize() - 1);
+            let at = state[w].bin;
+            if state[w].out == L::default() && at != sinks && at != placed {
+                lists.push(&mut state, SINKS, w)?;
             }
         }
     }
@@ -607,21 +667,23 @@ fn greedy_sequence<I: Idx, P: Idx, L: Idx>(
     Ok(Some(front))
 }
 
+/// A cut edge to try putting back: `(source, target, edge)`.
+type Candidate<L> = (L, L, L);
+
 /// Number of distance classes: distances between ranks by bit length.
 const CLASSES: usize = usize::BITS as usize + 1;
 
 /// The edges going backwards in `rank`, flagged in `is_cut`, as
-/// `(source, target, edge)` ordered by the distance between the ranks of
-/// their ends, by powers of two (stored order within one class). Two passes
-/// over the edges and a counting sort: linear.
+/// `(source, target, edge)` grouped by the distance between the ranks of
+/// their ends, by powers of two: class `k` holds the distances of bit length
+/// `k`, in stored order. One pass over the edges: linear.
 fn candidates_by_distance<I: Idx, P: Idx, L: Idx>(
     g: &Inner<I, P, L>,
     rank: &[L],
     is_cut: &mut [bool],
     ticker: &mut Ticker,
-) -> Result<Vec<(L, L, L)>, Error> {
-    let mut classes: Vec<u8> = Vec::new();
-    let mut start = [0usize; CLASSES + 1];
+) -> Result<Vec<Vec<Candidate<L>>>, Error> {
+    let mut classes: Vec<Vec<Candidate<L>>> = (0..CLASSES).map(|_| Vec::new()).collect();
     for u in 0..g.nodes() {
         ticker.tick_by(g.out_edges(u).len() + 1)?;
         let from = rank[u].to_usize();
@@ -630,27 +692,20 @@ fn candidates_by_distance<I: Idx, P: Idx, L: Idx>(
             if from > to {
                 is_cut[e] = true;
                 let class = (usize::BITS - (from - to).leading_zeros()) as usize;
-                classes.push(class as u8);
-                start[class + 1] += 1;
+                let bucket = &mut classes[class];
+                if bucket.len() == bucket.capacity() {
+                    let more = bucket.len().max(1 << 10);
+                    bucket.try_reserve(more).map_err(|_| Error::Allocation {
+                        what: "cut: candidates",
+                        count: bucket.len() + more,
+                        bytes_each: std::mem::size_of::<Candidate<L>>(),
+                    })?;
+                }
+                bucket.push((L::from_usize(u), g.fwd_target[e], L::from_usize(e)));
             }
         }
     }
-    for k in 0..CLASSES {
-        start[k + 1] += start[k];
-    }
-    let zero = L::default();
-    let mut sorted = alloc::filled("cut: candidates", classes.len(), (zero, zero, zero))?;
-    let mut next = 0usize;
-    for u in 0..g.nodes() {
-        ticker.tick_by(g.out_edges(u).len() + 1)?;
-        for e in g.out_edges(u).filter(|&e| is_cut[e]) {
-            let slot = &mut start[classes[next] as usize];
-            sorted[*slot] = (L::from_usize(u), g.fwd_target[e], L::from_usize(e));
-            *slot += 1;
-            next += 1;
-        }
-    }
-    Ok(sorted)
+    Ok(classes)
 }
 
 /// Search work (nodes expanded plus edges scanned) the put-back pass may
@@ -669,14 +724,14 @@ const YIELD_SHARE: usize = 8;
 /// Pearce–Kelly put-back of the candidate edges `(source, target, edge)`, in order,
 /// with the two searches run in turns (see the module documentation).
 /// Returns how many candidates stayed cut untested because their test ran
-/// out of search budget or was not started.
+/// out of search budget or was not started, and how many were put back.
 fn put_back<I: Idx, P: Idx, L: Idx>(
     g: &Inner<I, P, L>,
     rank: &mut [L],
     is_cut: &mut [bool],
-    candidates: &[(L, L, L)],
+    classes: &[Vec<Candidate<L>>],
     ticker: &mut Ticker,
-) -> Result<usize, Error> {
+) -> Result<(usize, usize), Error> {
     let h = g.nodes();
     // Search marks: a node belongs to the current search when its mark
     // equals the round number, so nothing is cleared between rounds.
@@ -690,7 +745,7 @@ fn put_back<I: Idx, P: Idx, L: Idx>(
     let size = h.saturating_add(g.edges());
     let exact = size <= PUT_BACK_EXACT;
     let mut budget = PUT_BACK_WORK.saturating_mul(size);
-    let mut untested = 0usize;
+    let (mut untested, mut restored) = (0usize, 0usize);
     // Tests started and verdicts reached since the last look, and whether
     // tests are still started (see `YIELD_WINDOW`).
     let (mut started, mut decided) = (0usize, 0usize);
@@ -700,7 +755,8 @@ fn put_back<I: Idx, P: Idx, L: Idx>(
     // test is started its ranks need not be read.
     let mut moved = alloc::filled("cut: moved nodes", h.div_ceil(64), 0u64)?;
     let is_moved = |moved: &[u64], a: usize| moved[a / 64] >> (a % 64) & 1 == 1;
-    for (round, &(x, y, e)) in candidates.iter().enumerate() {
+    let total: usize = classes.iter().map(Vec::len).sum();
+    for (round, &(x, y, e)) in classes.iter().flatten().enumerate() {
         let (x, y, e) = (x.to_usize(), y.to_usize(), e.to_usize());
         if !exact && (budget == 0 || !testing) && !is_moved(&moved, x) && !is_moved(&moved, y) {
             untested += 1;
@@ -710,6 +766,7 @@ fn put_back<I: Idx, P: Idx, L: Idx>(
         if lower > upper {
             // Earlier reorderings already put x before y.
             is_cut[e] = false;
+            restored += 1;
             continue;
         }
         // Four times an even share of what is left, at least the least;
@@ -726,7 +783,7 @@ fn put_back<I: Idx, P: Idx, L: Idx>(
             untested += 1;
             continue;
         } else {
-            (budget / (candidates.len() - round)).saturating_mul(4).max(PUT_BACK_LEAST)
+            (budget / (total - round)).saturating_mul(4).max(PUT_BACK_LEAST)
         };
         let round = L::from_usize(round + 1);
         started += 1;
@@ -819,8 +876,9 @@ fn put_back<I: Idx, P: Idx, L: Idx>(
             moved[a / 64] |= 1 << (a % 64);
         }
         is_cut[e] = false;
+        restored += 1;
     }
-    Ok(untested)
+    Ok((untested, restored))
 }
 
 /// A copy of `csr` without the edges at the given stored positions
