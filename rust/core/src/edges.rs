@@ -132,7 +132,11 @@ fn pick_positions<I: Idx, P: Idx, C: Idx>(
     let n = indptr.len().saturating_sub(1);
     let mut cursor = alloc::with_capacity("row cursors", n)?;
     cursor.extend(indptr[..n].iter().map(|p| C::from_usize(p.to_usize())));
-    let mut found = alloc::with_capacity("input positions", count)?;
+    // One slot more than wanted: every edge is written at the end, and only
+    // a wanted one is kept (about a third of the edges are wanted after a
+    // cut of a random graph, so a branch on it would be a coin toss).
+    let mut found = alloc::filled("input positions", count + 1, 0i64)?;
+    let mut kept = 0usize;
     let mut ticker = crate::interrupt::Ticker::new();
     let changed = || Error::InputChanged { what: "src" };
     for (chunk, sources) in src.chunks(1 << 16).enumerate() {
@@ -141,11 +145,18 @@ fn pick_positions<I: Idx, P: Idx, C: Idx>(
             let slot = cursor.get_mut(u.to_usize()).ok_or_else(changed)?;
             let k = slot.to_usize();
             *slot = C::from_usize(k + 1);
-            if wanted.get(k / 64).ok_or_else(changed)? >> (k % 64) & 1 == 1 {
-                found.push(((chunk << 16) + j) as i64);
-            }
+            let bit = wanted.get(k / 64).ok_or_else(changed)? >> (k % 64) & 1;
+            // Past the last slot: more edges found than asked for (repeated
+            // stored positions, or `src` other than the one counted).
+            *found.get_mut(kept).ok_or(Error::LengthMismatch {
+                what: "input positions found for the stored edge positions",
+                expected: count,
+                got: kept,
+            })? = ((chunk << 16) + j) as i64;
+            kept += bit as usize;
         }
     }
+    found.truncate(kept);
     Ok(found)
 }
 
