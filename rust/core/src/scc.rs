@@ -9,6 +9,7 @@
 
 use crate::alloc;
 use crate::interrupt::Ticker;
+use crate::sweep::prefetch;
 use crate::{Csr, Error, Idx};
 
 /// The strongly connected components of a graph.
@@ -205,6 +206,17 @@ fn search<I: Idx, P: Idx, S: Slot<I>>(
             _ => Err(Error::InputChanged { what: "indptr" }),
         }
     };
+    // A row just entered is read to its end before long, and the rows of
+    // its targets are the likeliest next: ask for their offsets and slots
+    // now (the search reads rows at random, so each would be a miss).
+    let slots_at = slots.as_ptr();
+    let warm = |next: usize, end: usize| {
+        for w in indices.get(next..end).unwrap_or(&[]) {
+            let w = w.to_usize();
+            prefetch(indptr.as_ptr().wrapping_add(w));
+            prefetch(slots_at.wrapping_add(w));
+        }
+    };
     let mut ticker = Ticker::new();
     let mut path: Vec<Frame<I, P>> = Vec::new();
     let mut open: Vec<I> = Vec::new();
@@ -236,6 +248,7 @@ fn search<I: Idx, P: Idx, S: Slot<I>>(
                 if rw.to_usize() == 0 {
                     let (w_next, w_end) = row_bounds(w)?;
                     ticker.tick_by(w_end.to_usize() - w_next.to_usize() + 1)?;
+                    warm(w_next.to_usize(), w_end.to_usize());
                     frame.next = P::from_usize(next);
                     slot.set_rindex(I::from_usize(index));
                     slots[v].set_rindex(low);
