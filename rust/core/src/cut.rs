@@ -17,11 +17,13 @@
 //!      closest to being a source. On a DAG with a few back edges it finds
 //!      the back edges where the degree difference wanders off.
 //!
-//!    The bins are stacks with lazy deletion, all in one arena. A node is
-//!    pushed again when its bin rises or it becomes a source or a sink; when
-//!    its bin falls its entry stays where it is, above the bin, and the node
-//!    is moved down when the scan from the highest bin reaches it. Stale
-//!    entries are skipped, and a node's degrees and bin share one cache line.
+//!    The bins are stacks with lazy deletion, in chunks of 15 entries from
+//!    one arena. A node is pushed again when its bin rises or it becomes a
+//!    source or a sink; when its bin falls its entry stays where it is, above
+//!    the bin, and the node is moved down when the scan from the highest bin
+//!    reaches it. Stale entries are skipped (reading a chunk in order), a
+//!    node's degrees and bin share one cache line, and the updates of a
+//!    placed node's neighbours branch only where a push is taken.
 //! 3. Put-back pass: cut edges are reinserted when that keeps the graph
 //!    acyclic, keeping a topological order up to date with the Pearce–Kelly
 //!    insertion algorithm (D. J. Pearce & P. H. J. Kelly, "A dynamic
@@ -444,26 +446,60 @@ struct NodeState<L> {
     bin: L,
 }
 
-/// Stacks of nodes with lazy deletion, all in one arena: an entry is valid
-/// when it is its node's newest (the node's `bin` names the entry's bin; a
-/// node pushed again has its newest entry above the older ones).
+/// Entries per chunk of a bin's stack (a chunk is this many node ids and
+/// the id of the chunk below: 64 bytes with 32-bit ids).
+const CHUNK: usize = 15;
+const STRIDE: usize = CHUNK + 1;
+
+/// Stacks of nodes with lazy deletion, in chunks from one arena: an entry
+/// is valid when it is its node's newest (the node's `bin` names the
+/// entry's bin; a node pushed again has its newest entry above the older
+/// ones). A bin's entries lie side by side in chunks of [`CHUNK`], so
+/// skipping stale ones reads memory in order and only the node states at
+/// random, without waiting for one read to find the next.
 struct Bins<L> {
-    /// Newest entry of each bin.
-    head: Vec<L>,
-    /// Each entry: its node and the entry below it in its bin.
-    entries: Vec<(L, L)>,
+    /// Per bin: its top chunk (`none` when the bin is empty) and how many
+    /// entries that chunk holds (1 to `CHUNK`; every chunk below is full).
+    head: Vec<(L, L)>,
+    /// Chunks of `STRIDE` ids: the chunk below (`none` at the bottom), then
+    /// the entries, oldest first.
+    chunks: Vec<L>,
+    /// Emptied chunks, to use again.
+    free: Vec<L>,
 }
 
 impl<L: Idx> Bins<L> {
+    /// Room for `entries` entries at once over `bins` bins.
     fn new(bins: usize, entries: usize) -> Result<Self, Error> {
+        // Full chunks, and one partly filled on top of each bin.
+        let chunks = (entries / CHUNK).saturating_add(bins.min(entries)).saturating_add(1);
         Ok(Bins {
-            head: alloc::filled("cut: bins", bins, none())?,
-            entries: alloc::with_capacity("cut: bin entries", entries)?,
+            head: alloc::filled("cut: bins", bins, (none(), L::default()))?,
+            chunks: alloc::with_capacity("cut: bin entries", chunks.saturating_mul(STRIDE))?,
+            free: Vec::new(),
         })
     }
 
+    /// A chunk on top of `below`.
+    #[cold]
+    fn new_chunk(&mut self, below: L) -> Result<usize, Error> {
+        let c = match self.free.pop() {
+            Some(c) => c.to_usize(),
+            None => {
+                if self.chunks.capacity() - self.chunks.len() < STRIDE {
+                    return Err(Error::Internal { reason: "cut: bin arena full".to_string() });
+                }
+                self.chunks.extend([L::default(); STRIDE]);
+                self.chunks.len() / STRIDE - 1
+            }
+        };
+        self.chunks[c * STRIDE] = below;
+        Ok(c)
+    }
+
     /// [`push`](Self::push) when `really`, else nothing; without a branch
-    /// on `really` (which is as good as random in the update loop).
+    /// on `really` (which is as good as random in the update loop) except
+    /// when a new chunk is due.
     #[inline(always)]
     fn push_if(
         &mut self,
@@ -472,15 +508,17 @@ impl<L: Idx> Bins<L> {
         u: usize,
         really: bool,
     ) -> Result<(), Error> {
-        let len = self.entries.len();
-        let Some(slot) = self.entries.spare_capacity_mut().first_mut() else {
-            return Err(Error::Internal { reason: "cut: bin arena full".to_string() });
-        };
-        let old = self.head[bin];
-        slot.write((L::from_usize(u), old));
-        // SAFETY: the entry at `len` (within capacity) was just written.
-        unsafe { self.entries.set_len(len + really as usize) };
-        self.head[bin] = if really { L::from_usize(len) } else { old };
+        let (mut c, mut fill) = self.head[bin];
+        if c == none() || fill.to_usize() == CHUNK {
+            if !really {
+                return Ok(());
+            }
+            c = L::from_usize(self.new_chunk(c)?);
+            fill = L::default();
+        }
+        let fill = fill.to_usize();
+        self.chunks[c.to_usize() * STRIDE + 1 + fill] = L::from_usize(u);
+        self.head[bin] = (c, L::from_usize(fill + really as usize));
         let kept = state[u].bin;
         state[u].bin = if really { L::from_usize(bin) } else { kept };
         Ok(())
@@ -488,49 +526,51 @@ impl<L: Idx> Bins<L> {
 
     #[inline(always)]
     fn push(&mut self, state: &mut [NodeState<L>], bin: usize, u: usize) -> Result<(), Error> {
-        if self.entries.len() == self.entries.capacity() {
-            return Err(Error::Internal { reason: "cut: bin arena full".to_string() });
-        }
-        self.entries.push((L::from_usize(u), self.head[bin]));
-        self.head[bin] = L::from_usize(self.entries.len() - 1);
-        state[u].bin = L::from_usize(bin);
-        Ok(())
+        self.push_if(state, bin, u, true)
     }
 
-    /// Take the top entry of `bin` off (its node is moved elsewhere).
+    /// Take the top entry of `bin` off (the bin must not be empty).
     #[inline(always)]
     fn drop_top(&mut self, bin: usize) {
-        let entry = self.head[bin].to_usize();
-        self.head[bin] = self.entries[entry].1;
+        let (c, fill) = self.head[bin];
+        let fill = fill.to_usize() - 1;
+        if fill > 0 {
+            self.head[bin].1 = L::from_usize(fill);
+            return;
+        }
+        self.free.push(c);
+        let below = self.chunks[c.to_usize() * STRIDE];
+        self.head[bin] = (below, L::from_usize(if below == none() { 0 } else { CHUNK }));
     }
 
     /// The node of the entry below the top of `bin`, stale or not (a hint).
     #[inline(always)]
     fn below_top(&self, bin: usize) -> Option<usize> {
-        let nil = none::<L>();
-        let top = self.head[bin];
-        if top == nil {
+        let (c, fill) = self.head[bin];
+        if c == none() {
             return None;
         }
-        let below = self.entries[top.to_usize()].1;
-        (below != nil).then(|| self.entries[below.to_usize()].0.to_usize())
+        let (c, fill) = (c.to_usize(), fill.to_usize());
+        if fill >= 2 {
+            return Some(self.chunks[c * STRIDE + fill - 1].to_usize());
+        }
+        let below = self.chunks[c * STRIDE];
+        (below != none()).then(|| self.chunks[below.to_usize() * STRIDE + CHUNK].to_usize())
     }
 
     /// The node on top of `bin`, dropping stale entries on the way.
     #[inline(always)]
     fn top(&mut self, state: &[NodeState<L>], bin: usize) -> Option<usize> {
-        let nil = none::<L>();
         loop {
-            let entry = self.head[bin];
-            if entry == nil {
+            let (c, fill) = self.head[bin];
+            if c == none() {
                 return None;
             }
-            let (node, below) = self.entries[entry.to_usize()];
-            let u = node.to_usize();
+            let u = self.chunks[c.to_usize() * STRIDE + fill.to_usize()].to_usize();
             if state[u].bin.to_usize() == bin {
                 return Some(u);
             }
-            self.head[bin] = below;
+            self.drop_top(bin);
         }
     }
 }
@@ -933,6 +973,50 @@ mod tests {
 
     fn rest_of(indptr: &[i64], indices: &[i64], removed: &[usize]) -> (Vec<i64>, Vec<i64>) {
         without_edges(&Csr::new(indptr, indices).unwrap(), removed).unwrap()
+    }
+
+    #[test]
+    fn bins_are_stacks_across_chunks_and_skip_stale_entries() {
+        // A plain vector per bin is the model: last pushed on top, entries
+        // whose node moved on skipped.
+        let nodes = 5 * CHUNK + 3;
+        let mut state = vec![NodeState::<u32> { out: 1, inn: 1, bin: none() }; nodes];
+        let mut bins = Bins::<u32>::new(3, 4 * nodes).unwrap();
+        let mut model: Vec<Vec<usize>> = vec![Vec::new(); 3];
+        for u in 0..nodes {
+            let bin = u % 2;
+            bins.push(&mut state, bin, u).unwrap();
+            model[bin].push(u);
+            // Pushes not taken change nothing.
+            bins.push_if(&mut state, 2, u, false).unwrap();
+        }
+        assert_eq!(bins.top(&state, 2), None);
+        // Every third node of bin 0 moves to bin 2: its entry in 0 is stale.
+        for u in (0..nodes).step_by(6) {
+            bins.push(&mut state, 2, u).unwrap();
+            model[2].push(u);
+        }
+        model[0].retain(|u| u % 6 != 0);
+        for (bin, expected) in model.iter_mut().enumerate() {
+            let mut seen = Vec::new();
+            while let Some(u) = bins.top(&state, bin) {
+                let hint = bins.below_top(bin);
+                seen.push(u);
+                bins.drop_top(bin);
+                if let (Some(hint), Some(next)) = (hint, bins.top(&state, bin)) {
+                    // The hint is the entry below, stale or not.
+                    assert!(hint == next || state[hint].bin != bin as u32);
+                }
+            }
+            expected.reverse();
+            assert_eq!(&seen, expected, "bin {bin}");
+        }
+        // Emptied chunks are used again: refilling takes no new room.
+        let used = bins.chunks.len();
+        for u in 0..2 * CHUNK {
+            bins.push(&mut state, 1, u).unwrap();
+        }
+        assert_eq!(bins.chunks.len(), used);
     }
 
     #[test]
