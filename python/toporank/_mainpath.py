@@ -289,16 +289,19 @@ class MainPath:
         return target
 
 
-def _acyclic(g: Graph, on_cycle: str, threads: int) -> tuple[Graph, np.ndarray, np.ndarray | None]:
+def _acyclic(
+    g: Graph, on_cycle: str, threads: int
+) -> tuple[Graph, np.ndarray | None, np.ndarray | None]:
     """The DAG the main path is found on, the input edge position of each of
-    its stored edges, and the node each of its nodes stands for (``None``:
-    itself)."""
-    everything = _input_positions(g, np.arange(g.m))
+    its stored edges (``None``: its stored order is the input order), and the
+    node each of its nodes stands for (``None``: itself)."""
+    stored_order = g.edge_input_positions()
     if on_cycle == "raise":
-        return g, everything, None
+        return g, stored_order, None
     found = _core.levels(g.indptr, g.indices, threads, False)
     if not isinstance(found, _core.Cyclic):
-        return g, everything, None
+        return g, stored_order, None
+    everything = _input_positions(g, np.arange(g.m))
     src = _stored_sources(g)
     if on_cycle == "preprint":
         t = preprint_transform(g)
@@ -417,6 +420,7 @@ def main_path(
     threads_used = sweep_threads(threads)
     dag, edge_input, node_of = _acyclic(g, on_cycle, threads_used)
     if user is not None and dag is not g:
+        assert edge_input is not None  # a new DAG lists its edges' input positions
         inverse = np.empty(g.m, dtype=np.int64)
         inverse[_input_positions(g, np.arange(g.m))] = np.arange(g.m)
         user = np.ascontiguousarray(user[inverse[edge_input]])
@@ -436,7 +440,12 @@ def main_path(
     stored = found.edges
     tails = np.searchsorted(dag.indptr, stored, side="right") - 1
     heads = dag.indices[stored].astype(np.int64)
-    positions = edge_input[stored] if len(stored) else np.zeros(0, dtype=np.int64)
+    if not len(stored):
+        positions = np.zeros(0, dtype=np.int64)
+    elif edge_input is None:
+        positions = np.asarray(stored, dtype=np.int64)
+    else:
+        positions = edge_input[stored].astype(np.int64, copy=False)
     by_input = np.argsort(positions, kind="stable")
     weights = np.asarray(found.edge_weight, dtype=np.float64)[by_input]
     path = found.path
