@@ -1253,7 +1253,7 @@ mod tests {
     #[test]
     fn interrupts_end_the_long_loops() {
         crate::interrupt::set_hook(stop_this_thread);
-        // Big enough to run well past the first check (0.1 s) unoptimised.
+        // Far more than one stride of work in every loop below.
         let (indptr, indices) = local_dag_with_back_edge(300_000, 3_000_000, 20, 9);
         let g = Csr::new(&indptr, &indices).unwrap();
         // A ring: one component, and a breadth-first search that must go
@@ -1262,13 +1262,20 @@ mod tests {
         let ring_indptr: Vec<i64> = (0..=n).collect();
         let ring_indices: Vec<i64> = (1..=n).map(|v| v % n).collect();
         let ring = Csr::new(&ring_indptr, &ring_indices).unwrap();
-        // Set only now: building and wrapping the graphs tick too.
+        // Set only now: building and wrapping the graphs tick too. Each call
+        // asks at its first check (65,536 units of work), however fast the build.
         STOP.with(|stop| stop.set(true));
+        let fresh = || crate::interrupt::ask_at_next_check();
+        fresh();
         assert_eq!(cut_cycles(&g).unwrap_err(), Error::Interrupted);
+        fresh();
         assert_eq!(strong_components(&ring).unwrap_err(), Error::Interrupted);
+        fresh();
         assert_eq!(crate::witness::find_cycle(&ring).unwrap_err(), Error::Interrupted);
         let comps = crate::scc::Components { labels: vec![0i64; ring.n()], count: 1 };
+        fresh();
         assert_eq!(crate::scc::condensation(&ring, &comps).unwrap_err(), Error::Interrupted);
+        fresh();
         assert_eq!(
             crate::witness::shortest_cycle_through(&ring, 0).unwrap_err(),
             Error::Interrupted

@@ -108,6 +108,13 @@ impl Ticker {
     }
 }
 
+/// Make this thread's next check ask the hook whatever the clock says, so a
+/// test can interrupt a loop that a fast build finishes within one interval.
+#[cfg(test)]
+pub fn ask_at_next_check() {
+    LAST_ASKED.with(|last| last.set(None));
+}
+
 /// The first position in `values` where `found` holds: a plain scan that
 /// ticks once per `STRIDE` items (input checks over every node or edge).
 pub fn position<T>(
