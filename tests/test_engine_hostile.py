@@ -3,6 +3,7 @@ must never come out of these, only a documented exception."""
 
 from __future__ import annotations
 
+import os
 import subprocess
 import sys
 import textwrap
@@ -110,3 +111,50 @@ def test_input_written_by_another_thread_mid_call_never_crashes():
     )
     assert result.returncode == 0, result.stderr[-2000:]
     assert result.stdout.startswith("["), result.stdout
+
+
+# Python salts str hashes per process (common practice since Python 3.3,
+# PYTHONHASHSEED), so a set of labels iterates in a different order from one
+# run to the next; numbering nodes in that order would change every result.
+_SET_ORDER = """
+import toporank
+pairs = {("alpha", "beta"), ("gamma", "delta"), ("eps", "zeta"), ("eta", "theta")}
+print(" ".join(map(str, toporank.order(sorted(pairs)))))
+print(" ".join(map(str, pairs)))
+"""
+
+
+def test_sets_are_refused_because_their_order_changes_from_run_to_run():
+    salted = []
+    for seed in ("1", "2", "3", "4"):
+        done = subprocess.run(
+            [sys.executable, "-c", _SET_ORDER],
+            capture_output=True,
+            text=True,
+            timeout=120,
+            env={**os.environ, "PYTHONHASHSEED": seed},
+        )
+        assert done.returncode == 0, done.stderr
+        ours, raw = done.stdout.splitlines()
+        salted.append((ours, raw))
+    # The raw set order moved with the salt; the order of the sorted list did not.
+    assert len({raw for _, raw in salted}) > 1
+    assert len({ours for ours, _ in salted}) == 1
+    pairs = {("a", "b"), ("c", "d")}
+    with pytest.raises(GraphInputError, match=r"pairs is a set.*sorted\(pairs\)"):
+        toporank.order(pairs)
+    with pytest.raises(GraphInputError, match="frozenset"):
+        toporank.Graph.from_pairs(frozenset(pairs))
+    g = toporank.Graph.from_pairs(sorted(pairs))
+    with pytest.raises(GraphInputError, match="order is a set"):
+        toporank.verify_order(g, {"a", "b", "c", "d"})
+    with pytest.raises(GraphInputError, match="order is a set"):
+        toporank.order_metrics(g, {"a", "b", "c", "d"})
+    with pytest.raises(GraphInputError, match="tasks is a set"):
+        toporank.Frontier(g).finish({"a", "c"})
+    with pytest.raises(GraphInputError, match="ties is a set"):
+        toporank.compare(g, {"queue", "stack"})
+    with pytest.raises(GraphInputError, match="nodes is a set"):
+        toporank.DynamicOrder(g).add_nodes({"e", "f"})
+    # A dict's keys and items keep insertion order: still accepted.
+    assert toporank.order({"a": "b", "c": "d"}.items()).tolist() == ["a", "c", "b", "d"]

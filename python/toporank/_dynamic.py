@@ -11,7 +11,7 @@ import numpy as np
 from . import _core
 from ._errors import CyclicGraphError, GraphInputError
 from ._graph import Graph, as_graph
-from ._validate import integer_ids
+from ._validate import integer_ids, ordered
 
 __all__ = ["DynamicOrder"]
 
@@ -227,6 +227,7 @@ class DynamicOrder:
             raise GraphInputError(
                 f"add_nodes takes an iterable of new labels for a labelled graph, got {nodes!r}"
             )
+        ordered(nodes, "nodes")
         fresh = list(nodes)
         seen: set[Hashable] = set()
         for label in fresh:

@@ -17,7 +17,7 @@ import numpy as np
 
 from . import _core
 from ._errors import GraphInputError
-from ._validate import distinct_labels, node_count
+from ._validate import distinct_labels, node_count, ordered
 
 __all__ = ["Graph", "as_graph"]
 
@@ -184,7 +184,11 @@ class Graph:
 
     @classmethod
     def from_pairs(cls, pairs: Iterable[tuple[Hashable, Hashable]]) -> Graph:
-        """A graph from ``(u, v)`` pairs of hashable labels, numbered in first-seen order."""
+        """A graph from ``(u, v)`` pairs of hashable labels, numbered in first-seen order.
+
+        A ``set`` is refused: its order, hence the numbering, changes from run to run.
+        """
+        ordered(pairs, "pairs")
         index: dict[Any, int] = {}
         src_ids: list[int] = []
         dst_ids: list[int] = []
@@ -231,7 +235,8 @@ def as_graph(graph: Any, n: int | None = None) -> Graph:
 
     Accepted: a ``Graph``; a scipy sparse matrix or array; a tuple
     ``(src, dst)`` of two 1-D numpy integer arrays; an ``(m, 2)`` numpy
-    integer array; any other iterable of ``(u, v)`` pairs of hashable labels.
+    integer array; any other iterable of ``(u, v)`` pairs of hashable labels
+    except a set (its order, hence the numbering, changes from run to run).
     ``n`` (node count) applies to the two edge-array forms.
     """
     if isinstance(graph, Graph):

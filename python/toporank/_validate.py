@@ -213,6 +213,7 @@ def policy(
 
 def tie_list(ties: Any) -> tuple[str, ...]:
     """Policies to compare: a non-empty selection of :data:`SCHEDULE_TIES`, each once."""
+    ordered(ties, "ties")
     chosen = (ties,) if isinstance(ties, str) else tuple(ties)
     if not chosen:
         raise GraphInputError(f"ties is empty; tie must be one of {SCHEDULE_TIES}")
@@ -408,10 +409,21 @@ def node_argument(g: Graph, node: Any, name: str) -> int:
     return value
 
 
+def ordered(values: Any, name: str) -> None:
+    """Refuse a set: its order follows hashes, which for strings change from
+    one run to the next, so node numbering and results would too."""
+    if isinstance(values, (set, frozenset)):
+        raise GraphInputError(
+            f"{name} is a {type(values).__name__}, whose order changes from run to run "
+            f"(string hashes are salted per process); pass a list, e.g. sorted({name})"
+        )
+
+
 def node_list(nodes: Any, name: str) -> list[Any]:
-    """A sequence of nodes as a list; generators are read once, strings refused."""
+    """A sequence of nodes as a list; generators are read once, strings and sets refused."""
     if isinstance(nodes, (str, bytes, Mapping)) or not isinstance(nodes, Iterable):
         raise GraphInputError(f"{name} must be a sequence of nodes, got {type(nodes).__name__}")
+    ordered(nodes, name)
     return list(nodes)
 
 
