@@ -246,6 +246,11 @@ def test_key_and_node_files(tmp_path):
         read_key(_write(tmp_path / "k2.tsv", "a\t1\nb\t2\n"), g)
     nodes = read_nodes(_write(tmp_path / "o.csv", "node,position\nc,0\nb,1\na,2\n"), g)
     assert nodes.tolist() == ["c", "b", "a"]
+    # a comment line shaped like an entry is no entry (else: "node '# a' is not in the graph")
+    text = "a\t2001\n# a\t1850\nb\t1999\nc\t1990\n"
+    assert read_key(_write(tmp_path / "k3.tsv", text), g).tolist() == [1999, 2001, 1990]
+    text = "c\n#b\nb\na\n"
+    assert read_nodes(_write(tmp_path / "o2.txt", text), g).tolist() == ["c", "b", "a"]
 
 
 def test_atomic_output_leaves_nothing_on_failure(tmp_path):

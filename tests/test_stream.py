@@ -174,6 +174,38 @@ def test_a_mid_file_comment_falls_back_without_losing_or_repeating_edges(tmp_pat
     _same_graph(toporank.read_graph(tmp_path / "e.txt"), toporank.Graph.from_edges(src, dst))
 
 
+@pytest.mark.parametrize("delimiter", ["\t", ","])
+def test_labelled_comment_lines_shaped_like_edges_are_not_edges(tmp_path, small_blocks, delimiter):
+    # A line starting with "#" is a comment (the documented rule). The fast
+    # reader knows no comments; one with as many fields as an edge, in a
+    # labelled file, used to come back as an edge from a node named "# ...".
+    src, dst = _random_edges(2000, 100, seed=12)
+    pairs = [(f"p{u}", f"p{v}") for u, v in zip(src.tolist(), dst.tolist(), strict=True)]
+    lines = [f"{u}{delimiter}{v}\n" for u, v in pairs]
+    lines.insert(1500, f"# retracted{delimiter}p3\n")
+    lines.insert(10, f"  #p1{delimiter}p2\n")
+    (tmp_path / "e.txt").write_text("".join(lines))
+    g = toporank.read_graph(tmp_path / "e.txt")
+    assert not [label for label in g.labels.tolist() if "#" in label]
+    _same_graph(g, toporank.Graph.from_pairs(pairs))
+    assert _edge_multiset(g) == _networkx_multiset(*zip(*pairs, strict=True))  # networkx
+
+
+def test_a_comment_line_is_not_an_edge_when_column_0_is_not_read(tmp_path, small_blocks):
+    src, dst = _random_edges(2000, 100, seed=13)
+    lines = [f"x\t{u}\t{v}\n" for u, v in zip(src.tolist(), dst.tolist(), strict=True)]
+    lines.insert(700, "# moved\t5\t6\n")  # its columns 1 and 2 parse as ids
+    (tmp_path / "e.tsv").write_text("".join(lines))
+    g = toporank.read_graph(tmp_path / "e.tsv", columns=(1, 2))
+    _same_graph(g, toporank.Graph.from_edges(src, dst))
+    # with comments switched off the line is data: one more edge, 5 -> 6, at its place
+    plain = toporank.read_graph(tmp_path / "e.tsv", ReadOptions(comment="", columns=(1, 2)))
+    with_line = toporank.Graph.from_edges(
+        np.insert(src, 700, 5), np.insert(dst, 700, 6), max(plain.n, 7)
+    )
+    _same_graph(plain, with_line)
+
+
 def test_npy_errors_name_the_row(tmp_path, monkeypatch):
     monkeypatch.setattr("toporank.io.binary.BATCH_EDGES", 10)
     edges = np.arange(60).reshape(30, 2)
