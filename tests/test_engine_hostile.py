@@ -158,3 +158,36 @@ def test_sets_are_refused_because_their_order_changes_from_run_to_run():
         toporank.DynamicOrder(g).add_nodes({"e", "f"})
     # A dict's keys and items keep insertion order: still accepted.
     assert toporank.order({"a": "b", "c": "d"}.items()).tolist() == ["a", "c", "b", "d"]
+
+
+@pytest.mark.parametrize(
+    "given",
+    [
+        np.array([1, 2**64 - 1], dtype=np.uint64),
+        [1, 2**64 - 1],  # numpy would make this list float64
+        [1, 2**70],  # and this one object
+    ],
+)
+def test_ids_beyond_int64_are_named_as_given_not_as_minus_one(given):
+    shown = str(int(given[1]))
+    d = toporank.DynamicOrder(n=3)
+    with pytest.raises(GraphInputError, match=rf"src\[1\] = {shown} is not a node id"):
+        d.add_edges(given, [2, 2])
+    with pytest.raises(GraphInputError, match=rf"dst\[1\] = {shown} is not a node id"):
+        d.remove_edges([0, 0], given)
+    assert d.m == 0
+    g = toporank.Graph.from_edges([0, 1], [1, 2])
+    with pytest.raises(toporank.InvalidOrderError, match=rf"order\[1\] = {shown} is not a node"):
+        toporank.verify_order(g, given)
+    with pytest.raises(GraphInputError, match=rf"tasks\[1\] = {shown} is not a node"):
+        toporank.Frontier(g).finish(given)
+
+
+def test_frontier_names_an_unknown_label_and_a_count_too_large():
+    f = toporank.Frontier([("a", "b")])
+    with pytest.raises(GraphInputError, match="task 'zz' is not a node of the graph"):
+        f.fail("zz")
+    with pytest.raises(
+        GraphInputError, match=r"count in 0..2\*\*63 - 1, got 2361183241434822606848"
+    ):
+        f.take(2**71)

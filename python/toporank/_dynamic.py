@@ -11,7 +11,7 @@ import numpy as np
 from . import _core
 from ._errors import CyclicGraphError, GraphInputError
 from ._graph import Graph, as_graph
-from ._validate import integer_ids, ordered
+from ._validate import integer_ids, node_list, ordered, show
 
 __all__ = ["DynamicOrder"]
 
@@ -404,10 +404,19 @@ nothing changed
         if self._index is None:
             if isinstance(nodes, (str, bytes)):
                 raise GraphInputError(f"{what} must be a sequence of node ids, got {nodes!r}")
-            array = np.asarray(nodes)
-            if array.dtype.kind == "b":
+            given = nodes if isinstance(nodes, np.ndarray) else node_list(nodes, what)
+            if np.asarray(given).dtype.kind == "b":
                 raise GraphInputError(f"{what} has dtype bool, expected integer node ids")
-            return integer_ids(array, what)
+            ids = integer_ids(given, what)
+            # values beyond int64 come back as -1: name the value as given
+            bad = np.flatnonzero((ids < 0) | (ids >= self.n))
+            if len(bad):
+                k = int(bad[0])
+                raise GraphInputError(
+                    f"{what}[{k}] = {show(given[k])} is not a node id; "
+                    f"ids must satisfy 0 <= id < {self.n}"
+                )
+            return ids
         index = self._index
         items = list(nodes)
         ids = np.empty(len(items), dtype=np.int64)

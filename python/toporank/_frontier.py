@@ -191,7 +191,7 @@ class Frontier:
         if k is not None and (type(k) is not int or not 0 <= k <= _INT64_MAX):
             k = whole_number(k, "k")
             if not 0 <= k <= _INT64_MAX:
-                raise GraphInputError(f"k must be None or a count >= 0, got {k}")
+                raise GraphInputError(f"k must be None or a count in 0..2**63 - 1, got {k}")
         taken = self._core.take(k)
         if not len(taken) and self._core.is_done:
             raise TaskStateError("nothing left to take: every task is finished, failed or skipped")
@@ -290,6 +290,8 @@ class Frontier:
                 single = isinstance(tasks, Hashable) and tasks in self._graph.label_index
             except TypeError:
                 single = False
+            if not single and isinstance(tasks, (str, bytes)):
+                raise GraphInputError(f"task {show(tasks)} is not a node of the graph")
         elif isinstance(tasks, (int, np.integer)) and not isinstance(tasks, (bool, np.bool_)):
             single = True
         ids, given = node_ids(self._graph, [tasks] if single else tasks, "tasks")

@@ -447,13 +447,19 @@ def node_ids(g: Graph, nodes: Any, name: str) -> tuple[np.ndarray, Any]:
             ids[position] = index.get(label, -1)
         return ids, given
     if not isinstance(nodes, np.ndarray):
-        nodes = np.asarray(node_list(nodes, name))
+        nodes = node_list(nodes, name)
     return integer_ids(nodes, name), nodes
 
 
 def integer_ids(nodes: Any, name: str) -> np.ndarray:
     """Integer node ids as an int64 array; values beyond int64 map to -1 (reported by callers)."""
     array = np.asarray(nodes)
+    if array.dtype.kind in "fO" and isinstance(nodes, (list, tuple)):
+        # numpy turns a list mixing small ints with ints from 2**63 up into
+        # floats (or objects): keep Python ints exact
+        exact = _exact_ids(nodes)
+        if exact is not None:
+            return exact
     if array.ndim != 1:
         raise GraphInputError(f"{name} must be 1-D, got shape {array.shape}")
     if len(array) == 0:
@@ -463,6 +469,16 @@ def integer_ids(nodes: Any, name: str) -> np.ndarray:
     if array.dtype == np.uint64 and int(array.max()) > _INT64_MAX:
         return np.where(array > _INT64_MAX, -1, array).astype(np.int64)
     return np.ascontiguousarray(array, dtype=np.int64)
+
+
+def _exact_ids(values: list[Any] | tuple[Any, ...]) -> np.ndarray | None:
+    """Python ints as int64 ids, those beyond int64 as -1; ``None`` if not all ints."""
+    if not all(
+        isinstance(v, (int, np.integer)) and not isinstance(v, (bool, np.bool_)) for v in values
+    ):
+        return None
+    exact = [v if -(2**63) <= v <= _INT64_MAX else -1 for v in map(int, values)]
+    return np.array(exact, dtype=np.int64)
 
 
 def distinct_labels(labels: np.ndarray) -> None:
