@@ -190,6 +190,29 @@ def test_bad_input_is_a_graph_input_error(client):
         td.levels([(0, 1)], client=client)
 
 
+def test_ids_counts_and_dtypes_beyond_what_fits_are_named(client):
+    # An id of 2**64 - 1 used to overflow inside a worker's task.
+    big = frame(np.array([0, 2**64 - 1], dtype=np.uint64), np.array([1, 2], dtype=np.uint64))
+    with pytest.raises(toporank.GraphInputError, match="node id 18446744073709551615, too large"):
+        td.levels(big, client=client)
+    with pytest.raises(toporank.GraphInputError, match="node id 9223372036854775807, too large"):
+        td.levels(frame([0, 2**63 - 1], [1, 2]), client=client)
+    good = frame([0, 1], [1, 2])
+    with pytest.raises(toporank.GraphInputError, match="n = 18446744073709551616 is not a node"):
+        td.levels(good, client=client, n=2**64)
+    with pytest.raises(toporank.GraphInputError, match="n must be a non-negative integer"):
+        td.levels(good, client=client, n="3")
+    with pytest.raises(toporank.GraphInputError, match=r"partitions must be an integer, got 1\.5"):
+        td.levels(good, client=client, partitions=1.5)
+    with pytest.raises(toporank.GraphInputError, match="partitions must be >= 1, got 0"):
+        td.levels(good, client=client, partitions=0)
+    nullable = pd.DataFrame(
+        {"src": pd.array([0, None], dtype="Int64"), "dst": pd.array([1, 2], dtype="Int64")}
+    )
+    with pytest.raises(toporank.GraphInputError, match="nullable dtype Int64"):
+        td.levels(dd.from_pandas(nullable, npartitions=1), client=client)
+
+
 def test_rounds_are_logged(client, caplog):
     with caplog.at_level(logging.INFO, logger="toporank.distributed"):
         run = td.peel(frame([0, 1, 2], [1, 2, 3]), client=client, partitions=2)

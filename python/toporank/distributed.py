@@ -34,7 +34,13 @@ import numpy as np
 from . import _core, _report
 from ._errors import GraphInputError
 from ._graph import Graph
-from ._validate import distributed_on_cycle, positive_int, tie_column
+from ._validate import (
+    LARGEST_COUNT,
+    distributed_on_cycle,
+    node_count,
+    positive_int,
+    tie_column,
+)
 
 try:
     import dask
@@ -166,7 +172,14 @@ def _edge_frame(edges: Any, source: str, target: str) -> Any:
             raise GraphInputError(
                 f"edges have no column {column!r}; columns are {list(frame.columns)}"
             )
-        kind = np.dtype(frame[column].dtype).kind if _is_numpy(frame[column].dtype) else "?"
+        dtype = frame[column].dtype
+        kind = np.dtype(dtype).kind if _is_numpy(dtype) else "?"
+        if kind == "?" and getattr(dtype, "kind", None) in ("i", "u"):
+            raise GraphInputError(
+                f"column {column!r} has the nullable dtype {dtype}; node ids must have a "
+                "numpy integer dtype, without missing values (drop them, then "
+                ".astype('int64'))"
+            )
         if kind not in "iu":
             raise GraphInputError(
                 f"column {column!r} has dtype {frame[column].dtype}; node ids must be integers"
@@ -492,6 +505,9 @@ def peel(
     >>> client.close(); cluster.close()
     """
     started = time.perf_counter()
+    n = None if n is None else node_count(n)
+    if partitions is not None:
+        partitions = positive_int(partitions, "partitions", "partitions must be >= 1, got {number}")
     client = _client(client)
     frame = _edge_frame(edges, source, target)
     parts = client.compute(frame.to_delayed())
@@ -501,14 +517,17 @@ def peel(
     high = max((s[1] for s in stats if s[2]), default=-1)
     if low < 0:
         raise GraphInputError(f"node ids must be >= 0; the edges contain {low}")
+    if high >= LARGEST_COUNT:
+        raise GraphInputError(
+            f"the edges contain node id {high}, too large a node id (ids must be below "
+            f"2**63 - 1, so that the node count fits int64)"
+        )
     if n is None:
         n = high + 1
     elif n < high + 1:
         raise GraphInputError(f"n = {n} but the edges contain node id {high}")
     workers = sorted(client.scheduler_info()["workers"])
     shards = partitions if partitions is not None else max(1, len(workers))
-    if shards < 1:
-        raise GraphInputError(f"partitions must be >= 1, got {partitions}")
     block = max(1, math.ceil(n / shards)) if n else 1
     shards = max(1, math.ceil(n / block)) if n else 1
     lows = [min(s * block, n) for s in range(shards + 1)]
