@@ -246,6 +246,12 @@ def test_parquet_labels_dictionary_columns_and_errors(tmp_path):
     pq.write_table(pa.table({"a": [0, -1], "b": [1, 2]}), tmp_path / "neg.parquet")
     with pytest.raises(GraphFileError, match=r"row 1, column 'a': -1 is not a node id"):
         toporank.read_graph(tmp_path / "neg.parquet")
+    big = pa.table({"a": pa.array([0, 2**64 - 1], pa.uint64()), "b": pa.array([1, 2], pa.uint64())})
+    pq.write_table(big, tmp_path / "big.parquet")
+    with pytest.raises(
+        GraphFileError, match=r"row 1, column 'a': 18446744073709551615 is too large"
+    ):
+        toporank.read_graph(tmp_path / "big.parquet")
     with pytest.raises(GraphFileError, match="no column named 'x'"):
         toporank.read_graph(tmp_path / "neg.parquet", columns=("x", "b"))
     pq.write_table(pa.table({"a": [0.5], "b": [1.0]}), tmp_path / "f.parquet")

@@ -105,6 +105,13 @@ class ParquetEdges:
                     f"row {row + at}, column {name!r}: {int(array[at])} is not a node id; "
                     "ids must be >= 0",
                 )
+            if array.dtype.kind == "u" and len(array) and int(array.max()) > 2**63 - 1:
+                at = int(np.argmax(array))
+                raise GraphFileError(
+                    path,
+                    f"row {row + at}, column {name!r}: {int(array[at])} is too large a node id; "
+                    "ids must be below 2**63",
+                )
             values.append(array)
         if self.index is not None:
             return self.index.intern(values[0], values[1])
