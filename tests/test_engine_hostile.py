@@ -191,3 +191,54 @@ def test_frontier_names_an_unknown_label_and_a_count_too_large():
         GraphInputError, match=r"count in 0..2\*\*63 - 1, got 2361183241434822606848"
     ):
         f.take(2**71)
+
+
+def test_arguments_of_the_wrong_type_are_named_not_crashed_on():
+    # Found by throwing random values at every argument: each of these used
+    # to end in a TypeError, ValueError or OverflowError from deep inside.
+    pairs = [("a", "b"), ("b", "c")]
+    with pytest.raises(GraphInputError, match=r"descending must be True or False, got array"):
+        toporank.order(pairs, tie="priority", key=[1, 2, 3], descending=np.array([1, 2]))
+    with pytest.raises(GraphInputError, match="descending must be True or False, got 'yes'"):
+        toporank.order_metrics(pairs, ["a", "b", "c"], key=[1, 2, 3], descending="yes")
+    with pytest.raises(GraphInputError, match="grouped must be True or False, got 2"):
+        toporank.levels(pairs, grouped=2)
+    assert toporank.order(pairs, tie="priority", key=[1, 2, 3], descending=np.True_).tolist() == [
+        "a",
+        "b",
+        "c",
+    ]
+    with pytest.raises(GraphInputError, match="ties must be a policy name or a sequence"):
+        toporank.compare(pairs, ties=3)
+    d = toporank.DynamicOrder(pairs)
+    with pytest.raises(GraphInputError, match="src must be a sequence of nodes, got NoneType"):
+        d.add_edges(None, ["b"])
+    with pytest.raises(GraphInputError, match="dst must be a sequence of nodes, got float"):
+        d.remove_edges(["a"], 1.5)
+    with pytest.raises(GraphInputError, match="below 2\\*\\*63, got 18446744073709551616"):
+        toporank.DynamicOrder(n=2**64)
+    with pytest.raises(GraphInputError, match="below 2\\*\\*63, got 18446744073709551616"):
+        toporank.DynamicOrder(n=1).add_nodes(2**64)
+
+
+@pytest.mark.parametrize(
+    ("keywords", "message"),
+    [
+        ({"columns": 3}, "columns must be a list or tuple"),
+        ({"columns": (0, True)}, "columns must be a list or tuple"),
+        ({"delimiter": 3}, "delimiter must be a string or None, got 3"),
+        ({"header": "yes"}, "header must be True, False or None, got 'yes'"),
+        ({"labels": 1}, "labels must be True, False or None, got 1"),
+        ({"format": ["text"]}, "format must be one of"),
+        ({"progress": np.array([1, 2])}, "progress must be True or False"),
+    ],
+)
+def test_reader_options_of_the_wrong_type_are_named(tmp_path, keywords, message):
+    path = tmp_path / "e.tsv"
+    path.write_text("a\tb\nb\tc\n")
+    with pytest.raises(GraphInputError, match=message):
+        toporank.read_graph(path, **keywords)
+    with pytest.raises(GraphInputError, match=message):
+        toporank.ReadOptions(**keywords)
+    # the right types still read (columns as a numpy array too)
+    assert toporank.read_graph(path, columns=np.array([1, 0])).labels.tolist() == ["b", "a", "c"]

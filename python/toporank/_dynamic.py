@@ -418,7 +418,7 @@ nothing changed
                 )
             return ids
         index = self._index
-        items = list(nodes)
+        items = node_list(nodes, what)
         ids = np.empty(len(items), dtype=np.int64)
         for k, label in enumerate(items):
             try:
@@ -457,6 +457,6 @@ def _count(value: Any, what: str) -> int:
         count = operator.index(value)
     except TypeError:
         raise GraphInputError(f"{what} must be a non-negative integer, got {value!r}") from None
-    if count < 0:
-        raise GraphInputError(f"{what} must be a non-negative integer, got {count}")
+    if not 0 <= count <= 2**63 - 1:
+        raise GraphInputError(f"{what} must be a non-negative integer below 2**63, got {count}")
     return count

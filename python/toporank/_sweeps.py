@@ -31,6 +31,7 @@ from ._validate import (
     on_cycle_choice,
     raise_cycle,
     sweep_threads,
+    switch,
 )
 
 __all__ = [
@@ -187,6 +188,7 @@ def levels(
     g = as_graph(graph, n)
     on_cycle = on_cycle_choice(on_cycle)
     workers = sweep_threads(threads)
+    grouped = switch(grouped, "grouped")
     if on_cycle != "raise":
         level = _levels_despite_cycles(g, on_cycle, workers, backward=False)
         return _grouped(g, level) if grouped else level

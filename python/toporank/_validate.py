@@ -197,6 +197,7 @@ def policy(
     g: Graph, tie: Any, key: Any, descending: Any, seed: Any, ties: tuple[str, ...] = TIES
 ) -> tuple[np.ndarray | None, int]:
     """The key array (or ``None``) and the seed of a tie-break policy."""
+    descending = switch(descending, "descending")
     if not isinstance(tie, str) or tie not in ties:
         raise GraphInputError(f"tie must be one of {ties}, got {show(tie)}")
     if tie == "critical":
@@ -214,6 +215,10 @@ def policy(
 def tie_list(ties: Any) -> tuple[str, ...]:
     """Policies to compare: a non-empty selection of :data:`SCHEDULE_TIES`, each once."""
     ordered(ties, "ties")
+    if not isinstance(ties, (str, Iterable)) or isinstance(ties, (bytes, Mapping)):
+        raise GraphInputError(
+            f"ties must be a policy name or a sequence of them ({SCHEDULE_TIES}), got {show(ties)}"
+        )
     chosen = (ties,) if isinstance(ties, str) else tuple(ties)
     if not chosen:
         raise GraphInputError(f"ties is empty; tie must be one of {SCHEDULE_TIES}")
@@ -226,8 +231,18 @@ def tie_list(ties: Any) -> tuple[str, ...]:
     return chosen
 
 
+def switch(value: Any, name: str) -> bool:
+    """A yes/no argument: ``True``, ``False`` (numpy's too), or the integers 1 and 0."""
+    if isinstance(value, (bool, np.bool_)):
+        return bool(value)
+    if isinstance(value, (int, np.integer)) and value in (0, 1):
+        return bool(value)
+    raise GraphInputError(f"{name} must be True or False, got {show(value)}")
+
+
 def reference_key(g: Graph, key: Any, descending: Any) -> np.ndarray | None:
     """A reference key to compare orders with (``None`` without one)."""
+    descending = switch(descending, "descending")
     if key is None:
         if descending:
             raise GraphInputError("descending applies to a key; pass key=... as well")

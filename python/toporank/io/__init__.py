@@ -15,6 +15,8 @@ import os
 from collections.abc import Sequence
 from typing import Any
 
+import numpy as np
+
 from .._graph import Graph
 from .binary import read_matrix_market, read_npy, read_npz
 from .build import EdgeBatch, LabelIndex, build_graph
@@ -147,11 +149,14 @@ def read_graph(
         "delimiter": delimiter,
         "header": header,
         "labels": labels,
-        "progress": progress or None,
+        "progress": None if progress is False else progress,
     }
     chosen = {k: v for k, v in given.items() if v is not None}
-    if tuple(columns) != (0, 1):
-        chosen["columns"] = tuple(columns)
+    sequence = isinstance(columns, (list, tuple, np.ndarray))
+    flags = sequence and any(isinstance(c, (bool, np.bool_)) for c in columns)  # True == 1
+    if not sequence or flags or tuple(columns) != (0, 1):
+        # ReadOptions refuses what is no sequence of positions or names
+        chosen["columns"] = tuple(columns) if sequence else columns
     options = dataclasses.replace(options or ReadOptions(), **chosen)
     kind = file_format(name, options.format)
     if kind != "text" and name == "-":

@@ -6,6 +6,8 @@ import os
 from collections.abc import Callable, Sequence
 from dataclasses import dataclass, field
 
+import numpy as np
+
 from .._errors import GraphInputError
 
 __all__ = ["DELIMITERS", "FILE_FORMATS", "ReadOptions", "file_format"]
@@ -103,6 +105,45 @@ class ReadOptions:
     )
     spill_dir: str | None = None
     edge_positions: bool = True
+
+    def __post_init__(self) -> None:
+        """Refuse a field of the wrong type at once, naming it (not deep inside a reader)."""
+        maybe_flag = (bool, np.bool_, type(None))
+        checks: list[tuple[str, bool, str]] = [
+            (
+                "format",
+                isinstance(self.format, (str, type(None))),
+                f"one of {FILE_FORMATS} or None",
+            ),
+            ("delimiter", isinstance(self.delimiter, (str, type(None))), "a string or None"),
+            ("header", isinstance(self.header, maybe_flag), "True, False or None"),
+            ("labels", isinstance(self.labels, maybe_flag), "True, False or None"),
+            ("comment", isinstance(self.comment, str), "a string"),
+            ("progress", isinstance(self.progress, (bool, np.bool_)), "True or False"),
+            ("edge_positions", isinstance(self.edge_positions, (bool, np.bool_)), "True or False"),
+            ("note", self.note is None or callable(self.note), "a callable or None"),
+            (
+                "spill_dir",
+                isinstance(self.spill_dir, (str, os.PathLike, type(None))),
+                "a folder or None",
+            ),
+            (
+                "columns",
+                isinstance(self.columns, (list, tuple, np.ndarray))
+                and all(
+                    isinstance(c, (int, np.integer, str)) and not isinstance(c, (bool, np.bool_))
+                    for c in self.columns
+                ),
+                "a list or tuple of column positions or names",
+            ),
+        ]
+        for name, fine, wanted in checks:
+            if not fine:
+                raise GraphInputError(f"{name} must be {wanted}, got {getattr(self, name)!r}")
+        for name in ("max_line_bytes", "spool_limit_bytes"):
+            value = getattr(self, name)
+            if isinstance(value, bool) or not isinstance(value, (int, np.integer)) or value <= 0:
+                raise GraphInputError(f"{name} must be a positive number of bytes, got {value!r}")
 
 
 def file_format(name: str, format: str | None) -> str:
