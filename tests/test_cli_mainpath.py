@@ -71,6 +71,8 @@ def test_cycle_exits_1_without_output_and_preprint_writes_json_and_png(tmp_path,
         ["--plot-key", "k.tsv"],
         ["--weight", "hits"],
         ["--on-cycle", "partial"],
+        ["--method", "key-route", "--routes", "0"],  # was taken as 1
+        ["--method", "key-route", "--routes", "99999999999999999999"],  # was an OverflowError
     ],
 )
 def test_usage_errors_exit_2(tmp_path, capsys, extra):

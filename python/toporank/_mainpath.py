@@ -407,8 +407,12 @@ def main_path(
     extend = choice(extend, "extend", EXTENDS)
     ties = choice(ties, "ties", TIE_RULES)
     on_cycle = choice(on_cycle, "on_cycle", MAIN_PATH_ON_CYCLE)
-    if isinstance(routes, bool) or not isinstance(routes, (int, np.integer)) or routes < 1:
-        raise GraphInputError(f"routes must be a positive integer, got {show(routes)}")
+    if (
+        isinstance(routes, bool)
+        or not isinstance(routes, (int, np.integer))
+        or not 1 <= routes <= 2**63 - 1
+    ):
+        raise GraphInputError(f"routes must be a positive integer below 2**63, got {show(routes)}")
     if method != "key-route" and (routes != 1 or extend != "local"):
         raise GraphInputError("routes and extend apply to method='key-route' only")
     kind = "spc"

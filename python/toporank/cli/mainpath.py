@@ -80,7 +80,8 @@ def run(args: argparse.Namespace) -> int:
     key = read_key(args.plot_key, g, progress=not args.quiet) if args.plot_key else None
     options: dict[str, Any] = {}
     if args.method == "key-route":
-        options = {"routes": args.routes or 1, "extend": args.extend or "local"}
+        routes = 1 if args.routes is None else args.routes
+        options = {"routes": routes, "extend": args.extend or "local"}
     try:
         found = toporank.main_path(
             g,
