@@ -3,6 +3,7 @@
 from __future__ import annotations
 
 import operator
+import threading
 from collections.abc import Hashable, Iterable
 from typing import Any
 
@@ -49,8 +50,9 @@ class DynamicOrder:
     -----
     The graph is a multigraph, as elsewhere in the package: adding an edge
     twice stores two copies, and :meth:`remove_edge` removes one. Node ids
-    (``order``, ``positions``) are int64. Batch methods release the GIL;
-    share one instance between threads only behind a lock of your own.
+    (``order``, ``positions``) are int64. Several threads may share one
+    instance: every call takes one internal lock, and batch methods wait
+    for it and work without the GIL.
 
     References
     ----------
@@ -83,6 +85,7 @@ class DynamicOrder:
     def __init__(self, graph: Any = None, *, n: int | None = None) -> None:
         self._labels: list[Hashable] | None = None
         self._index: dict[Hashable, int] | None = None
+        self._naming = threading.Lock()
         if graph is None:
             count = 0 if n is None else _count(n, "n")
             self._core = _core.DynamicCore(count)
@@ -170,9 +173,7 @@ class DynamicOrder:
         indptr, indices = arrays.indptr, arrays.indices
         if self._labels is None:
             return Graph(indptr, indices)
-        labels = np.empty(len(self._labels), dtype=object)
-        labels[:] = self._labels
-        return Graph(indptr, indices, labels)
+        return Graph(indptr, indices, self._label_array(len(indptr) - 1))
 
     def position(self, v: Any) -> int:
         """Return the place of node ``v`` in :attr:`order` (O(1)).
@@ -229,19 +230,28 @@ class DynamicOrder:
             )
         ordered(nodes, "nodes")
         fresh = list(nodes)
-        seen: set[Hashable] = set()
-        for label in fresh:
+        with self._naming:  # one labelled add_nodes at a time: check, then name
+            seen: set[Hashable] = set()
+            for label in fresh:
+                try:
+                    known = label in self._index or label in seen
+                except TypeError:
+                    raise GraphInputError(f"label {label!r} is not hashable") from None
+                if known:
+                    raise GraphInputError(f"node {label!r} is already in the graph")
+                seen.add(label)
+            # names first: a reader in another thread may see more names than
+            # nodes for a moment, never a node without a name
+            start = len(self._labels)
+            self._labels.extend(fresh)
+            self._index.update((label, start + k) for k, label in enumerate(fresh))
             try:
-                known = label in self._index or label in seen
-            except TypeError:
-                raise GraphInputError(f"label {label!r} is not hashable") from None
-            if known:
-                raise GraphInputError(f"node {label!r} is already in the graph")
-            seen.add(label)
-        self._core.add_nodes(len(fresh))
-        for label in fresh:
-            self._index[label] = len(self._labels)
-            self._labels.append(label)
+                self._core.add_nodes(len(fresh))
+            except BaseException:
+                for label in fresh:
+                    del self._index[label]
+                del self._labels[start:]
+                raise
 
     def add_edge(self, u: Any, v: Any) -> None:
         """Insert the edge ``u -> v`` unless it would close a cycle.
@@ -378,9 +388,15 @@ nothing changed
     def _nodes(self, ids: np.ndarray) -> np.ndarray:
         if self._labels is None:
             return ids
-        labels = np.empty(len(self._labels), dtype=object)
-        labels[:] = self._labels
-        return labels[ids]
+        return self._label_array(len(self._labels))[ids]
+
+    def _label_array(self, count: int) -> np.ndarray:
+        """The first ``count`` labels as an object array. Labels are only
+        appended, so this holds while another thread adds nodes."""
+        assert self._labels is not None
+        labels = np.empty(count, dtype=object)
+        labels[:] = self._labels[:count]
+        return labels
 
     def _id(self, node: Any, what: str) -> int:
         if self._index is not None:

@@ -2,6 +2,7 @@
 //! width, the GIL-free section, and the result shape of a cyclic graph.
 
 use std::panic::{catch_unwind, AssertUnwindSafe};
+use std::sync::{Mutex, TryLockError};
 
 use numpy::{
     Element, IntoPyArray, PyArray1, PyArrayMethods, PyReadonlyArray1, PyUntypedArrayMethods,
@@ -34,6 +35,54 @@ pub(crate) fn compute<T: Send>(
                 .unwrap_or_default();
             Err(PyRuntimeError::new_err(format!("toporank internal error (please report): {what}")))
         }
+    }
+}
+
+/// The state of a Python object that several threads may call at once
+/// (`Frontier`, `DynamicOrder`), behind one lock.
+pub(crate) struct Shared<T> {
+    state: Mutex<T>,
+    name: &'static str,
+}
+
+impl<T: Send> Shared<T> {
+    /// `state`, shared; `name` is the Python class, for the message after a panic.
+    pub(crate) fn new(state: T, name: &'static str) -> Self {
+        Shared { state: Mutex::new(state), name }
+    }
+
+    fn poisoned(&self) -> Error {
+        Error::Internal {
+            reason: format!("a {} call panicked earlier; the state is lost", self.name),
+        }
+    }
+
+    /// Run `work` on the locked state: at once when the lock is free (the
+    /// GIL kept, as a short call is cheaper than releasing it), else waiting
+    /// for the lock without the GIL.
+    pub(crate) fn locked<R: Send>(
+        &self,
+        py: Python<'_>,
+        work: impl FnOnce(&mut T) -> Result<R, Error> + Send,
+    ) -> PyResult<R> {
+        match self.state.try_lock() {
+            Ok(mut state) => match catch_unwind(AssertUnwindSafe(|| work(&mut state))) {
+                Ok(result) => result.map_err(|error| CoreError(error).into()),
+                Err(_) => Err(PyRuntimeError::new_err("toporank internal error (please report)")),
+            },
+            Err(TryLockError::Poisoned(_)) => Err(CoreError(self.poisoned()).into()),
+            Err(TryLockError::WouldBlock) => self.detached(py, work),
+        }
+    }
+
+    /// Run `work` on the locked state without the GIL, lock wait included
+    /// (long calls: batches).
+    pub(crate) fn detached<R: Send>(
+        &self,
+        py: Python<'_>,
+        work: impl FnOnce(&mut T) -> Result<R, Error> + Send,
+    ) -> PyResult<R> {
+        compute(py, || work(&mut *self.state.lock().map_err(|_| self.poisoned())?))
     }
 }
 

@@ -5,13 +5,12 @@ use pyo3::prelude::*;
 use toporank_core::dynamic::{BatchInsertion, DynamicOrder, Insertion};
 use toporank_core::Csr;
 
-use crate::common::{compute, on_graph, read, Index, OnGraph};
+use crate::common::{compute, on_graph, read, Index, OnGraph, Shared};
 use crate::errors::to_py;
 use crate::order::CsrArrays;
 
 fn ids(py: Python<'_>, values: &[usize]) -> Py<PyArray1<i64>> {
-    let converted: Vec<i64> = values.iter().map(|&x| x as i64).collect();
-    converted.into_pyarray(py).unbind()
+    converted(values).into_pyarray(py).unbind()
 }
 
 /// A refused insertion: edge `index` of the batch (0 for a single edge)
@@ -25,9 +24,15 @@ pub(crate) struct Refusal {
 }
 
 /// The Rust structure behind `toporank.DynamicOrder` (integer ids only).
-#[pyclass(module = "toporank._core")]
+/// Every method takes the one lock, so threads may share an instance;
+/// batches wait for it and run without the GIL.
+#[pyclass(module = "toporank._core", frozen)]
 pub(crate) struct DynamicCore {
-    inner: DynamicOrder,
+    inner: Shared<DynamicOrder>,
+}
+
+fn converted(values: &[usize]) -> Vec<i64> {
+    values.iter().map(|&x| x as i64).collect()
 }
 
 #[pymethods]
@@ -36,7 +41,7 @@ impl DynamicCore {
     #[new]
     fn new(n: usize) -> PyResult<Self> {
         let inner = DynamicOrder::new(n).map_err(to_py)?;
-        Ok(DynamicCore { inner })
+        Ok(DynamicCore { inner: Shared::new(inner, "DynamicOrder") })
     }
 
     /// A `DynamicCore` holding the CSR graph in Kahn's FIFO order, or (for
@@ -51,28 +56,28 @@ impl DynamicCore {
     }
 
     #[getter]
-    fn n(&self) -> usize {
-        self.inner.n()
+    fn n(&self, py: Python<'_>) -> PyResult<usize> {
+        self.inner.locked(py, |d| Ok(d.n()))
     }
 
     #[getter]
-    fn m(&self) -> usize {
-        self.inner.m()
+    fn m(&self, py: Python<'_>) -> PyResult<usize> {
+        self.inner.locked(py, |d| Ok(d.m()))
     }
 
     /// Nodes repositioned by every insertion so far.
     #[getter]
-    fn affected_total(&self) -> u64 {
-        self.inner.affected_total()
+    fn affected_total(&self, py: Python<'_>) -> PyResult<u64> {
+        self.inner.locked(py, |d| Ok(d.affected_total()))
     }
 
-    fn add_nodes(&mut self, count: usize) -> PyResult<()> {
-        self.inner.add_nodes(count).map_err(to_py)
+    fn add_nodes(&self, py: Python<'_>, count: usize) -> PyResult<()> {
+        self.inner.locked(py, |d| d.add_nodes(count))
     }
 
     /// None when `u -> v` went in, else the refusal.
-    fn add_edge(&mut self, py: Python<'_>, u: i64, v: i64) -> PyResult<Option<Refusal>> {
-        match self.inner.add_edge(u, v).map_err(to_py)? {
+    fn add_edge(&self, py: Python<'_>, u: i64, v: i64) -> PyResult<Option<Refusal>> {
+        match self.inner.locked(py, |d| d.add_edge(u, v))? {
             Insertion::Added { .. } => Ok(None),
             Insertion::Refused { cycle } => Ok(Some(Refusal { index: 0, cycle: ids(py, &cycle) })),
         }
@@ -80,16 +85,14 @@ impl DynamicCore {
 
     /// None when every edge went in, else the refusal (nothing changed).
     fn add_edges(
-        &mut self,
+        &self,
         py: Python<'_>,
         src: &Bound<'_, PyAny>,
         dst: &Bound<'_, PyAny>,
     ) -> PyResult<Option<Refusal>> {
         let (src, dst) = (read::<i64>(src, "src", "int64")?, read::<i64>(dst, "dst", "int64")?);
         let (src, dst) = (src.values()?, dst.values()?);
-        let inner = &mut self.inner;
-        let outcome = compute(py, || inner.add_edges(src, dst))?;
-        match outcome {
+        match self.inner.detached(py, |d| d.add_edges(src, dst))? {
             BatchInsertion::Added { .. } => Ok(None),
             BatchInsertion::Refused { index, cycle } => {
                 Ok(Some(Refusal { index, cycle: ids(py, &cycle) }))
@@ -98,45 +101,46 @@ impl DynamicCore {
     }
 
     /// False when there is no edge `u -> v`.
-    fn remove_edge(&mut self, u: i64, v: i64) -> PyResult<bool> {
-        self.inner.remove_edge(u, v).map_err(to_py)
+    fn remove_edge(&self, py: Python<'_>, u: i64, v: i64) -> PyResult<bool> {
+        self.inner.locked(py, |d| d.remove_edge(u, v))
     }
 
     /// None when every edge was removed, else the position of the first
     /// missing one (nothing changed).
     fn remove_edges(
-        &mut self,
+        &self,
         py: Python<'_>,
         src: &Bound<'_, PyAny>,
         dst: &Bound<'_, PyAny>,
     ) -> PyResult<Option<usize>> {
         let (src, dst) = (read::<i64>(src, "src", "int64")?, read::<i64>(dst, "dst", "int64")?);
         let (src, dst) = (src.values()?, dst.values()?);
-        let inner = &mut self.inner;
-        compute(py, || inner.remove_edges(src, dst))
+        self.inner.detached(py, |d| d.remove_edges(src, dst))
     }
 
     /// The current order (a copy, int64).
-    fn order(&self, py: Python<'_>) -> Py<PyArray1<i64>> {
-        ids(py, self.inner.order())
+    fn order(&self, py: Python<'_>) -> PyResult<Py<PyArray1<i64>>> {
+        let order = self.inner.locked(py, |d| Ok(converted(d.order())))?;
+        Ok(order.into_pyarray(py).unbind())
     }
 
     /// The position of every node (a copy, int64).
-    fn positions(&self, py: Python<'_>) -> Py<PyArray1<i64>> {
-        ids(py, self.inner.positions())
+    fn positions(&self, py: Python<'_>) -> PyResult<Py<PyArray1<i64>>> {
+        let positions = self.inner.locked(py, |d| Ok(converted(d.positions())))?;
+        Ok(positions.into_pyarray(py).unbind())
     }
 
-    fn position(&self, v: i64) -> PyResult<usize> {
-        self.inner.position(v).map_err(to_py)
+    fn position(&self, py: Python<'_>, v: i64) -> PyResult<usize> {
+        self.inner.locked(py, |d| d.position(v))
     }
 
-    fn precedes(&self, u: i64, v: i64) -> PyResult<bool> {
-        self.inner.precedes(u, v).map_err(to_py)
+    fn precedes(&self, py: Python<'_>, u: i64, v: i64) -> PyResult<bool> {
+        self.inner.locked(py, |d| d.precedes(u, v))
     }
 
     /// The current edges as int64 CSR arrays.
     fn to_csr(&self, py: Python<'_>) -> PyResult<CsrArrays> {
-        let (indptr, indices) = self.inner.to_csr().map_err(to_py)?;
+        let (indptr, indices) = self.inner.locked(py, |d| d.to_csr())?;
         Ok(CsrArrays {
             indptr: indptr.into_pyarray(py).into_any().unbind(),
             indices: indices.into_pyarray(py).into_any().unbind(),
@@ -159,7 +163,10 @@ impl<'py> OnGraph<'py> for FromCsr {
     ) -> PyResult<Self::Output> {
         let built = compute(py, || DynamicOrder::from_csr(&Csr::from_arrays(indptr, indices)?))?;
         match built {
-            Ok(inner) => Ok(Bound::new(py, DynamicCore { inner })?.into_any()),
+            Ok(inner) => {
+                let core = DynamicCore { inner: Shared::new(inner, "DynamicOrder") };
+                Ok(Bound::new(py, core)?.into_any())
+            }
             Err(cycle) => Ok(ids(py, &cycle).into_bound(py).into_any()),
         }
     }

@@ -1,17 +1,13 @@
 //! The state behind `toporank.Frontier`: the core's `Frontier` behind one lock.
 
-use std::panic::{catch_unwind, AssertUnwindSafe};
-use std::sync::{Mutex, TryLockError};
-
 use numpy::{IntoPyArray, PyArray1};
-use pyo3::exceptions::PyRuntimeError;
 use pyo3::prelude::*;
 use toporank_core::frontier::{Frontier, Misuse};
 use toporank_core::schedule::Duration;
-use toporank_core::{Csr, Error, Key, KeyValues, Outcome, Tie};
+use toporank_core::{Csr, Key, KeyValues, Outcome, Tie};
 
-use crate::common::{compute, cyclic, on_graph, read, read_optional, Index, OnGraph};
-use crate::errors::{input_error, to_py};
+use crate::common::{compute, cyclic, on_graph, read, read_optional, Index, OnGraph, Shared};
+use crate::errors::input_error;
 use crate::schedule::{read_durations, Durations};
 
 fn ids(py: Python<'_>, values: &[usize]) -> Py<PyArray1<i64>> {
@@ -45,35 +41,10 @@ impl From<Misuse> for Refused {
 /// method takes the one lock; batch calls wait for it and run without the GIL.
 #[pyclass(module = "toporank._core", frozen)]
 pub(crate) struct FrontierCore {
-    inner: Mutex<Frontier>,
-}
-
-fn poisoned() -> Error {
-    Error::Internal { reason: "a frontier call panicked earlier; the state is lost".into() }
+    inner: Shared<Frontier>,
 }
 
 impl FrontierCore {
-    /// Run `work` on the locked state: at once when the lock is free (the
-    /// GIL kept, as a single call is shorter than releasing it), else
-    /// waiting for the lock without the GIL.
-    fn locked<T: Send>(
-        &self,
-        py: Python<'_>,
-        work: impl FnOnce(&mut Frontier) -> Result<T, Error> + Send,
-    ) -> PyResult<T> {
-        match self.inner.try_lock() {
-            Ok(mut state) => match catch_unwind(AssertUnwindSafe(|| work(&mut state))) {
-                Ok(result) => result.map_err(to_py),
-                Err(_) => Err(PyRuntimeError::new_err("toporank internal error (please report)")),
-            },
-            Err(TryLockError::Poisoned(_)) => Err(to_py(poisoned())),
-            Err(TryLockError::WouldBlock) => compute(py, || {
-                let mut state = self.inner.lock().map_err(|_| poisoned())?;
-                work(&mut state)
-            }),
-        }
-    }
-
     fn batch<'py>(
         &self,
         py: Python<'py>,
@@ -83,12 +54,12 @@ impl FrontierCore {
         let tasks = read::<i64>(tasks, "tasks", "int64")?;
         let tasks = tasks.values()?;
         if fail {
-            match compute(py, || self.inner.lock().map_err(|_| poisoned())?.fail(tasks))? {
+            match self.inner.detached(py, |f| f.fail(tasks))? {
                 Ok(skipped) => Ok(ids(py, &skipped).into_bound(py).into_any()),
                 Err(misuse) => Ok(Bound::new(py, Refused::from(misuse))?.into_any()),
             }
         } else {
-            match compute(py, || self.inner.lock().map_err(|_| poisoned())?.finish(tasks))? {
+            match self.inner.detached(py, |f| f.finish(tasks))? {
                 Ok(released) => Ok(released.into_pyobject(py)?.into_any()),
                 Err(misuse) => Ok(Bound::new(py, Refused::from(misuse))?.into_any()),
             }
@@ -107,7 +78,8 @@ fn built<'py, I: Index>(
 ) -> PyResult<Bound<'py, PyAny>> {
     match found {
         Ok(frontier) => {
-            Ok(Bound::new(py, FrontierCore { inner: Mutex::new(frontier) })?.into_any())
+            Ok(Bound::new(py, FrontierCore { inner: Shared::new(frontier, "Frontier") })?
+                .into_any())
         }
         Err(outcome) => cyclic(py, outcome),
     }
@@ -179,38 +151,38 @@ impl FrontierCore {
 
     #[getter]
     fn n(&self, py: Python<'_>) -> PyResult<usize> {
-        self.locked(py, |f| Ok(f.n()))
+        self.inner.locked(py, |f| Ok(f.n()))
     }
 
     #[getter]
     fn ready_count(&self, py: Python<'_>) -> PyResult<usize> {
-        self.locked(py, |f| Ok(f.ready_count()))
+        self.inner.locked(py, |f| Ok(f.ready_count()))
     }
 
     #[getter]
     fn running_count(&self, py: Python<'_>) -> PyResult<usize> {
-        self.locked(py, |f| Ok(f.running_count()))
+        self.inner.locked(py, |f| Ok(f.running_count()))
     }
 
     #[getter]
     fn remaining(&self, py: Python<'_>) -> PyResult<usize> {
-        self.locked(py, |f| Ok(f.remaining()))
+        self.inner.locked(py, |f| Ok(f.remaining()))
     }
 
     #[getter]
     fn is_done(&self, py: Python<'_>) -> PyResult<bool> {
-        self.locked(py, |f| Ok(f.is_done()))
+        self.inner.locked(py, |f| Ok(f.is_done()))
     }
 
     /// The running tasks, ascending id (int64).
     fn running(&self, py: Python<'_>) -> PyResult<Py<PyArray1<i64>>> {
-        let found = self.locked(py, |f| Ok(f.running()))?;
+        let found = self.inner.locked(py, |f| Ok(f.running()))?;
         Ok(ids(py, &found))
     }
 
     /// Done, failed or skipped tasks (`which`), in the order they got there.
     fn settled(&self, py: Python<'_>, which: &str) -> PyResult<Py<PyArray1<i64>>> {
-        let found = self.locked(py, |f| {
+        let found = self.inner.locked(py, |f| {
             Ok(match which {
                 "done" => f.done().to_vec(),
                 "failed" => f.failed().to_vec(),
@@ -224,20 +196,20 @@ impl FrontierCore {
     #[pyo3(signature = (k=None))]
     fn take(&self, py: Python<'_>, k: Option<usize>) -> PyResult<Py<PyArray1<i64>>> {
         if k == Some(1) {
-            let taken = self.locked(py, |f| f.take(k))?;
+            let taken = self.inner.locked(py, |f| f.take(k))?;
             let one: Vec<i64> = taken.iter().map(|&x| x as i64).collect();
             return Ok(one.into_pyarray(py).unbind());
         }
         let taken = match k {
-            Some(small) if small <= 64 => self.locked(py, |f| f.take(k))?,
-            _ => compute(py, || self.inner.lock().map_err(|_| poisoned())?.take(k))?,
+            Some(small) if small <= 64 => self.inner.locked(py, |f| f.take(k))?,
+            _ => self.inner.detached(py, |f| f.take(k))?,
         };
         Ok(ids(py, &taken))
     }
 
     /// Finish one running task: None, or `Refused`.
     fn finish_one(&self, py: Python<'_>, task: i64) -> PyResult<Option<Refused>> {
-        Ok(self.locked(py, |f| f.finish(&[task]))?.err().map(Refused::from))
+        Ok(self.inner.locked(py, |f| f.finish(&[task]))?.err().map(Refused::from))
     }
 
     /// Finish running `tasks` (int64): the number of tasks released, or `Refused`.
