@@ -242,3 +242,19 @@ def test_reader_options_of_the_wrong_type_are_named(tmp_path, keywords, message)
         toporank.ReadOptions(**keywords)
     # the right types still read (columns as a numpy array too)
     assert toporank.read_graph(path, columns=np.array([1, 0])).labels.tolist() == ["b", "a", "c"]
+
+
+def test_stateful_objects_refuse_copies_that_would_share_their_state():
+    # copy.copy used to hand back a second handle on the same state: taking a
+    # task through the "copy" took it from the original too.
+    import copy
+    import pickle
+
+    frontier = toporank.Frontier([("parse", "check")])
+    dynamic = toporank.DynamicOrder([("parse", "check")])
+    for stateful, name in ((frontier, "Frontier"), (dynamic, "DynamicOrder")):
+        for attempt in (copy.copy, copy.deepcopy, pickle.dumps):
+            with pytest.raises(TypeError, match=f"a {name} cannot be copied or pickled"):
+                attempt(stateful)
+    assert frontier.take().tolist() == ["parse"]
+    assert dynamic.order.tolist() == ["parse", "check"]

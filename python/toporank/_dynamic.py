@@ -5,7 +5,7 @@ from __future__ import annotations
 import operator
 import threading
 from collections.abc import Hashable, Iterable
-from typing import Any
+from typing import Any, NoReturn
 
 import numpy as np
 
@@ -101,6 +101,17 @@ class DynamicOrder:
         if g.labels is not None:
             self._labels = list(g.labels.tolist())
             self._index = dict(g.label_index)
+
+    def __copy__(self) -> NoReturn:
+        # a shallow copy would share the state: a change through one would
+        # show in the other
+        raise TypeError(
+            "a DynamicOrder cannot be copied or pickled; build another from its .graph "
+            "(its order is then recomputed)"
+        )
+
+    def __reduce_ex__(self, protocol: Any) -> NoReturn:
+        self.__copy__()
 
     def __repr__(self) -> str:
         kind = "labelled " if self._labels is not None else ""

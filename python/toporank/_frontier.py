@@ -3,7 +3,7 @@
 from __future__ import annotations
 
 from collections.abc import Hashable
-from typing import Any
+from typing import Any, NoReturn
 
 import numpy as np
 
@@ -123,6 +123,14 @@ class Frontier:
         self._graph = g
         self._labels = g.labels
         self._n = g.n
+
+    def __copy__(self) -> NoReturn:
+        # a shallow copy would share the state: a change through one would
+        # show in the other
+        raise TypeError("a Frontier cannot be copied or pickled; build another from the same graph")
+
+    def __reduce_ex__(self, protocol: Any) -> NoReturn:
+        self.__copy__()
 
     def __repr__(self) -> str:
         return (
