@@ -381,3 +381,31 @@ def test_verify_order_agrees_with_a_plain_check(graph, rnd):
         assert position[u] >= position[v]
     else:
         assert valid
+
+
+def test_dates_are_priority_keys_and_missing_dates_are_named():
+    # An invented journal's papers keyed by publication date: a datetime64
+    # key orders as the dates do (common practice: numpy datetime64 values
+    # compare chronologically), the same as the years as integers.
+    papers = [("survey", "method"), ("survey", "dataset"), ("dataset", "benchmark")]
+    dates = {
+        "survey": np.datetime64("2019-03-01"),
+        "method": np.datetime64("2021-07-15"),
+        "dataset": np.datetime64("2020-11-30"),
+        "benchmark": np.datetime64("2020-12-01"),
+    }
+    by_date = toporank.order(papers, tie="priority", key=dates)
+    days = {name: int(d.astype("datetime64[D]").astype(np.int64)) for name, d in dates.items()}
+    assert by_date.tolist() == toporank.order(papers, tie="priority", key=days).tolist()
+    assert by_date.tolist() == ["survey", "dataset", "benchmark", "method"]
+    ids = (np.array([0, 0]), np.array([1, 2]))
+    stamps = np.array(["2001-01-01", "2003-01-01", "2002-01-01"], dtype="datetime64[s]")
+    assert toporank.order(ids, tie="priority", key=stamps).tolist() == [0, 2, 1]
+    with pytest.raises(toporank.GraphInputError, match=r"key\[1\] is NaT"):
+        toporank.order(ids, tie="priority", key=np.array(["2001", "NaT", "2002"], "datetime64[Y]"))
+
+
+@pytest.mark.filterwarnings("ignore::PendingDeprecationWarning")  # numpy on np.matrix itself
+def test_a_numpy_matrix_of_edges_reads_like_an_array():
+    edges = np.matrix([[0, 1], [1, 2]])
+    assert toporank.order(edges).tolist() == toporank.order(np.asarray(edges)).tolist() == [0, 1, 2]

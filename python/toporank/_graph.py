@@ -247,6 +247,7 @@ def as_graph(graph: Any, n: int | None = None) -> Graph:
         _check_n(n, built.n, "a sparse matrix")
         return built
     if isinstance(graph, np.ndarray):
+        graph = np.asarray(graph)  # np.matrix: its rows would stay 2-D
         if graph.ndim != 2 or graph.shape[1] != 2:
             raise GraphInputError(
                 f"a numpy edge array must have shape (m, 2), got {graph.shape}; for a dense "

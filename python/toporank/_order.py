@@ -54,8 +54,9 @@ def order(
         ``key`` (ties to the smaller node id), ``"random"`` a uniformly random
         one drawn from ``seed``.
     key
-        For ``tie="priority"``: one number per node (int or float array of
-        length ``n``; for labelled graphs also a mapping label -> number).
+        For ``tie="priority"``: one value per node (an int, float or
+        datetime64 array of length ``n``, e.g. publication dates; for
+        labelled graphs also a mapping label -> value).
         ``None`` means the node id, which gives the lexicographically smallest
         order.
     descending

@@ -292,7 +292,8 @@ def node_key(g: Graph, key: Any, name: str = "key") -> np.ndarray:
 
     For a labelled graph ``key`` may also be a mapping from label to value.
     Integers stay integers (int64, or uint64 for values from 2**63 up);
-    booleans, non-numeric values, NaN and a wrong length are refused.
+    datetime64 and timedelta64 values order as their int64 counts;
+    booleans, non-numeric values, NaN, NaT and a wrong length are refused.
     """
     if isinstance(key, Mapping):
         if g.labels is None:
@@ -325,7 +326,18 @@ def node_key(g: Graph, key: Any, name: str = "key") -> np.ndarray:
         return np.ascontiguousarray(array, dtype=np.int64)
     if kind == "u":
         return np.ascontiguousarray(array, dtype=np.uint64)
-    raise GraphInputError(f"{name} has dtype {array.dtype}, expected integers or floats")
+    if kind in "mM":
+        # dates and durations (one unit per array) order as their int64 counts
+        nat = np.flatnonzero(np.isnat(array))
+        if len(nat):
+            at = int(nat[0])
+            raise GraphInputError(
+                f"{name}[{at}] is NaT{_label_note(g, at)}; keys must be comparable"
+            )
+        return np.ascontiguousarray(array).view(np.int64)
+    raise GraphInputError(
+        f"{name} has dtype {array.dtype}, expected integers, floats or datetime64"
+    )
 
 
 def node_weights(g: Graph, values: Any, name: str) -> np.ndarray:
