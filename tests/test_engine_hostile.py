@@ -258,3 +258,32 @@ def test_stateful_objects_refuse_copies_that_would_share_their_state():
                 attempt(stateful)
     assert frontier.take().tolist() == ["parse"]
     assert dynamic.order.tolist() == ["parse", "check"]
+
+
+def test_a_tuple_of_two_columns_is_read_as_columns_whatever_their_type():
+    # (src, dst) as pandas Series of length 2 used to be read as two (u, v)
+    # pairs: edges 0 -> 2 and 1 -> 3 instead of 0 -> 1 and 2 -> 3.
+    pd = pytest.importorskip("pandas")
+    pa = pytest.importorskip("pyarrow")
+    src, dst = [0, 2], [1, 3]
+    expected = toporank.Graph.from_edges(np.array(src), np.array(dst))
+    for columns in (
+        (pd.Series(src), pd.Series(dst)),
+        (pa.array(src), pa.array(dst)),
+        (np.array(src), dst),  # one numpy column makes both columns
+    ):
+        g = toporank.as_graph(columns)
+        assert g.labels is None
+        np.testing.assert_array_equal(g.indptr, expected.indptr)
+        np.testing.assert_array_equal(g.indices, expected.indices)
+    # string columns are labels, as pairs of the same names would be
+    named = toporank.as_graph((pd.Series(["core", "core", "io"]), pd.Series(["io", "net", "app"])))
+    pairs = toporank.as_graph([("core", "io"), ("core", "net"), ("io", "app")])
+    assert named.labels.tolist() == pairs.labels.tolist()
+    np.testing.assert_array_equal(named.indices, pairs.indices)
+    with pytest.raises(GraphInputError, match=r"src\[1\] is missing"):
+        toporank.as_graph((pd.Series(["a", None]), pd.Series(["b", "c"])))
+    with pytest.raises(GraphInputError, match="from a DataFrame directly"):
+        toporank.order(pd.DataFrame({"src": src, "dst": dst}))
+    # a tuple of two plain lists stays two pairs (the documented pair form)
+    assert toporank.as_graph(([0, 2], [1, 3])).labels.tolist() == [0, 2, 1, 3]

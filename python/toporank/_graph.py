@@ -234,7 +234,8 @@ def as_graph(graph: Any, n: int | None = None) -> Graph:
     """Normalise any accepted graph form to a :class:`Graph`.
 
     Accepted: a ``Graph``; a scipy sparse matrix or array; a tuple
-    ``(src, dst)`` of two 1-D numpy integer arrays; an ``(m, 2)`` numpy
+    ``(src, dst)`` of two 1-D columns (numpy arrays, pandas Series, pyarrow
+    arrays: integer ids, or strings as labels); an ``(m, 2)`` numpy
     integer array; any other iterable of ``(u, v)`` pairs of hashable labels
     except a set (its order, hence the numbering, changes from run to run).
     ``n`` (node count) applies to the two edge-array forms.
@@ -254,14 +255,30 @@ def as_graph(graph: Any, n: int | None = None) -> Graph:
                 "adjacency matrix pass scipy.sparse.csr_array(matrix)"
             )
         return Graph.from_edges(graph[:, 0], graph[:, 1], n)
-    if (
-        isinstance(graph, tuple)
-        and len(graph) == 2
-        and isinstance(graph[0], np.ndarray)
-        and isinstance(graph[1], np.ndarray)
-        and graph[0].ndim == 1
-    ):
-        return Graph.from_edges(graph[0], graph[1], n)
+    if isinstance(graph, tuple) and len(graph) == 2 and any(map(_array_like, graph)):
+        # (src, dst) columns: numpy arrays, pandas Series, pyarrow arrays, or
+        # one numpy array and one list; never two (u, v) pairs
+        src, dst = _column(graph[0], "src"), _column(graph[1], "dst")
+        if src.dtype.kind in "OUS" or dst.dtype.kind in "OUS":  # label columns
+            if n is not None:
+                raise GraphInputError("n applies to integer edge arrays, not to labels")
+            if src.shape != dst.shape or src.ndim != 1:
+                raise GraphInputError(
+                    f"src and dst must be 1-D and of one length, got shapes {src.shape} "
+                    f"and {dst.shape}"
+                )
+            for name, column in (("src", src), ("dst", dst)):
+                # a missing value (None, NaN) in a column is no node name
+                missing = [k for k, x in enumerate(column.tolist()) if x is None or x != x]
+                if missing:
+                    raise GraphInputError(f"{name}[{missing[0]}] is missing (None or NaN)")
+            return Graph.from_pairs(list(zip(src.tolist(), dst.tolist(), strict=True)))
+        return Graph.from_edges(src, dst, n)
+    if _is_frame(graph):
+        raise GraphInputError(
+            f"cannot read a graph from a {type(graph).__name__} directly: pass its two "
+            "columns, e.g. (frame['src'].to_numpy(), frame['dst'].to_numpy())"
+        )
     if isinstance(graph, (str, bytes, Mapping)) or not isinstance(graph, Iterable):
         raise GraphInputError(
             f"cannot read a graph from {type(graph).__name__}: pass a scipy sparse matrix, "
@@ -271,6 +288,27 @@ def as_graph(graph: Any, n: int | None = None) -> Graph:
     if n is not None:
         raise GraphInputError("n applies to integer edge arrays, not to labelled pairs")
     return Graph.from_pairs(graph)
+
+
+def _array_like(obj: Any) -> bool:
+    """A numpy array, or an object numpy reads as one (pandas, pyarrow, ...)."""
+    return isinstance(obj, np.ndarray) or (
+        hasattr(obj, "__array__") and not isinstance(obj, (str, bytes, list, tuple))
+    )
+
+
+def _column(values: Any, name: str) -> np.ndarray:
+    """One edge column of a ``(src, dst)`` tuple as a numpy array."""
+    try:
+        return np.asarray(values)
+    except (TypeError, ValueError) as exc:  # e.g. a pandas column with missing values
+        raise GraphInputError(f"{name} cannot be read as an array of node ids: {exc}") from None
+
+
+def _is_frame(obj: Any) -> bool:
+    """A pandas or pyarrow table (iterating one yields column names, not edges)."""
+    kind = type(obj)
+    return kind.__name__ in ("DataFrame", "Table", "RecordBatch") and hasattr(obj, "columns")
 
 
 def is_sparse(obj: Any) -> bool:
