@@ -432,9 +432,11 @@ nothing changed
             if isinstance(nodes, (str, bytes)):
                 raise GraphInputError(f"{what} must be a sequence of node ids, got {nodes!r}")
             given = nodes if isinstance(nodes, np.ndarray) else node_list(nodes, what)
-            if np.asarray(given).dtype.kind == "b":
+            array = np.asarray(given)
+            if array.dtype.kind == "b":
                 raise GraphInputError(f"{what} has dtype bool, expected integer node ids")
-            ids = integer_ids(given, what)
+            # a list numpy read as floats or objects goes back for exact ints
+            ids = integer_ids(given if array.dtype.kind in "fO" else array, what)
             # values beyond int64 come back as -1: name the value as given
             bad = np.flatnonzero((ids < 0) | (ids >= self.n))
             if len(bad):
